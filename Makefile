@@ -1,0 +1,26 @@
+# The two commands a newcomer needs: `make site` and `make test`.
+# Both create and fill .venv on first use (and again when pyproject.toml changes).
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+STAMP  := $(VENV)/.installed
+
+.PHONY: site test bench clean
+
+$(STAMP): pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test]'
+	touch $(STAMP)
+
+site: $(STAMP)
+	$(VENV)/bin/dossier build cases --out site
+
+test: $(STAMP)
+	$(PY) -m pytest -q
+
+bench: $(STAMP)
+	$(PY) bench/run.py
+
+clean:
+	rm -rf site .pytest_cache

@@ -1,0 +1,139 @@
+"""The `dossier` command line.
+
+Every command turns a :class:`dossier.errors.DossierError` into one line per
+problem on standard error and exit code 2; ``--debug`` shows the traceback
+instead.  Heavy libraries (sympy, matplotlib, weasyprint) are imported inside
+the commands that need them, so ``dossier evaluate`` starts quickly.
+"""
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+import click
+
+from . import __version__
+from .errors import EXIT_BAD_INPUT, DossierError
+
+
+class _Group(click.Group):
+    """Runs a command and reports DossierError as plain problems (exit 2)."""
+
+    def invoke(self, ctx: click.Context):
+        try:
+            return super().invoke(ctx)
+        except DossierError as err:
+            if ctx.obj and ctx.obj.get("debug"):
+                raise
+            for problem in err.problems:
+                click.echo(f"error: {problem}", err=True)
+            ctx.exit(EXIT_BAD_INPUT)
+
+
+@click.group(cls=_Group)
+@click.version_option(__version__, prog_name="dossier")
+@click.option("--debug", is_flag=True, help="Show Python tracebacks for errors.")
+@click.pass_context
+def main(ctx: click.Context, debug: bool) -> None:
+    """Reaction-feasibility dossiers for process-safety review boards."""
+    ctx.ensure_object(dict)
+    ctx.obj["debug"] = debug
+
+
+@main.command()
+@click.argument("case_file", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--at", "at", multiple=True, metavar="TEMP",
+              help='Also evaluate at this temperature, with a unit ("350 K", "80 degC"). Repeatable.')
+@click.option("--json", "as_json", is_flag=True, help="Print the assessment as JSON.")
+def evaluate(case_file: Path, at: tuple[str, ...], as_json: bool) -> None:
+    """Assess one case and print its thermodynamics (and safety figures)."""
+    from .assess import assess_case
+    from .casefile import load_case
+    from .quantities import parse_quantity
+    from .species import Library
+    from .errors import Problem, UnitError
+
+    extra = []
+    for text in at:
+        try:
+            extra.append(parse_quantity(text, "temperature"))
+        except UnitError as err:
+            raise UnitError([Problem(p.message, key="--at") for p in err.problems]) from None
+    case = load_case(case_file)
+    assessment = assess_case(case, Library.default(), extra_temperatures=tuple(extra))
+    if as_json:
+        click.echo(json.dumps(assessment.to_dict(), indent=2, ensure_ascii=False))
+    else:
+        from .terminal import render_assessment
+
+        click.echo(render_assessment(assessment))
+
+
+@main.command()
+@click.argument("paths", nargs=-1, required=True, type=click.Path(path_type=Path))
+def check(paths: tuple[Path, ...]) -> None:
+    """Validate case files (or folders of them); exit 0 when all are good, 2 otherwise."""
+    from .assess import assess_case
+    from .casefile import load_case
+    from .species import Library
+
+    files: list[Path] = []
+    for p in paths:
+        files.extend(sorted(p.glob("*.md")) if p.is_dir() else [p])
+    bad = 0
+    for f in files:
+        try:
+            assess_case(load_case(f), Library.default())
+        except DossierError as err:
+            bad += 1
+            for problem in err.problems:
+                click.echo(f"error: {problem}", err=True)
+        else:
+            click.echo(f"ok: {f}")
+    click.echo(f"{len(files) - bad} of {len(files)} case files are good.")
+    if bad or not files:
+        sys.exit(EXIT_BAD_INPUT)
+
+
+@main.command()
+@click.argument("query")
+@click.option("--limit", default=10, show_default=True, help="Show at most this many records.")
+def species(query: str, limit: int) -> None:
+    """Search the species library and print records with their sources."""
+    from .species import Library, describe
+
+    lib = Library.default()
+    hits = lib.search(query)
+    if not hits:
+        click.echo(f"No species in library {lib.version} matches '{query}'.")
+        sys.exit(1)
+    for rec in hits[:limit]:
+        click.echo(f"{rec.id}")
+        for label, value in describe(rec):
+            click.echo(f"  {label:<22} {value}")
+        click.echo("")
+    if len(hits) > limit:
+        click.echo(f"... and {len(hits) - limit} more; use --limit to see them.")
+
+
+@main.command()
+@click.argument("cases_dir", default="cases", type=click.Path(file_okay=False, path_type=Path))
+@click.option("--out", "out_dir", default="site", show_default=True,
+              type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
+@click.option("--strict", is_flag=True, help="Fail the whole build if any case has an error.")
+def build(cases_dir: Path, out_dir: Path, strict: bool) -> None:
+    """Assess every case in CASES_DIR and publish the site into --out."""
+    from .build import build_site
+
+    report = build_site(cases_dir, out_dir, strict=strict)
+    for line in report.lines():
+        click.echo(line, err=bool(report.failed))
+    if report.failed and strict:
+        sys.exit(EXIT_BAD_INPUT)
+    if report.failed:
+        sys.exit(EXIT_BAD_INPUT)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()
