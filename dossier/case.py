@@ -168,10 +168,18 @@ class Case:
 
     def line_of(self, key: str) -> int | None:
         """Line of ``key`` (a key path) or of its nearest enclosing key."""
-        path = key
-        while path:
-            if path in self.header_lines:
-                return self.header_lines[path]
-            cut = max(path.rfind("."), path.rfind("["))
-            path = path[:cut] if cut > 0 else ""
-        return None
+        return nearest_line(self.header_lines, key)
+
+
+def nearest_line(lines: Mapping[str, int], key: str) -> int | None:
+    """Line of the key path ``key`` in ``lines``, else of its nearest parent.
+
+    ``"species[2].hf"`` falls back to ``"species[2]"``, then ``"species"``.
+    """
+    path = key
+    while path:
+        if path in lines:
+            return lines[path]
+        cut = max(path.rfind("."), path.rfind("["))
+        path = path[:cut] if cut > 0 else ""
+    return None

@@ -1,8 +1,8 @@
 """Reading case files: split, parse TOML, locate keys, validate, build a Case.
 
 A case file is UTF-8 text: a line ``+++``, a TOML header, a line ``+++``,
-then the Markdown narrative, kept exactly as written (see
-``docs/case-format``).  Reading goes in four steps:
+then the Markdown narrative, kept exactly as written (the format is
+described in the case-format design document).  Reading goes in four steps:
 
 1. **split** the text at the first two lines that are ``+++`` (trailing
    blanks allowed; a ``+++`` line inside a multi-line TOML string would end
@@ -31,7 +31,7 @@ from types import MappingProxyType
 from typing import Any, Callable
 
 from .case import (STANDARD_PRESSURE, Case, Charge, Decomposition, LocalSpecies,
-                   Measured, Phase, Review, Status, Verdict, Vessel)
+                   Measured, Phase, Review, Status, Verdict, Vessel, nearest_line)
 from .errors import CaseError, Problem, UnitError
 from .quantities import DIMENSIONS, parse_mass_or_amount, parse_quantity
 
@@ -228,7 +228,8 @@ def _split(text: str, filename: str) -> _Parts:
     for index in range(1, len(lines)):
         if lines[index].rstrip() == DELIMITER:
             return _Parts(
-                header="\n".join(lines[1:index]),
+                # the trailing newline ends a CRLF header's last line properly
+                header="\n".join(lines[1:index]) + "\n",
                 header_line=2,
                 closing_line=index + 1,
                 narrative="\n".join(lines[index + 1:]),
@@ -421,10 +422,11 @@ class _Scanner:
                 raise ValueError("no value")
             self.advance(m.end() - self.pos)
 
-    def table_path(self, parts: list[str]) -> str:
+    def table_path(self, parts: list[str], line: int) -> str:
         path = ""
         for part in parts:
             path = f"{path}.{part}" if path else part
+            self.note(path, line)
             if path in self.array_counts:
                 path = f"{path}[{self.array_counts[path]}]"
         return path
@@ -441,7 +443,7 @@ class _Scanner:
                 self.advance(2)
                 parts = self.read_key()
                 self.advance(2)
-                base = self.table_path(parts[:-1])
+                base = self.table_path(parts[:-1], line)
                 name = f"{base}.{parts[-1]}" if base else parts[-1]
                 self.array_counts[name] = self.array_counts.get(name, 0) + 1
                 self.note(name, line)
@@ -451,7 +453,7 @@ class _Scanner:
                 self.advance()
                 parts = self.read_key()
                 self.advance()
-                prefix = self.table_path(parts)
+                prefix = self.table_path(parts, line)
                 self.note(prefix, line)
             else:
                 path = self.note_key(prefix, self.read_key(), line)
@@ -519,13 +521,8 @@ class _Validator:
         self.problems: list[Problem] = []
 
     def line_of(self, key: str) -> int:
-        path = key
-        while path:
-            if path in self.lines:
-                return self.lines[path]
-            cut = max(path.rfind("."), path.rfind("["))
-            path = path[:cut] if cut > 0 else ""
-        return self.default_line
+        line = nearest_line(self.lines, key)
+        return self.default_line if line is None else line
 
     def problem(self, key: str, message: str) -> object:
         self.problems.append(Problem(message, self.filename, self.line_of(key), key))
@@ -745,10 +742,8 @@ def _cross_checks(v: _Validator, top: dict[str, Any]) -> None:
 
 def _build(top: dict[str, Any], parts: _Parts, filename: str,
            lines: dict[str, int]) -> Case:
-    def opt(table: dict | None, cls, **rename):
-        if table is None:
-            return None
-        return cls(**{rename.get(k, k): val for k, val in table.items()})
+    def opt(table: dict | None, cls):
+        return None if table is None else cls(**table)
 
     charge = None
     if top["charge"] is not None:

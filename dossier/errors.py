@@ -77,3 +77,7 @@ class LibraryError(DossierError):
 
 class UnitError(DossierError):
     """A quantity has no unit, a unit of the wrong dimension, or is not a number."""
+
+
+class SignatureError(DossierError):
+    """A key, trusted-keys or signatures file is unusable or malformed."""

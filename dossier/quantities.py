@@ -122,12 +122,8 @@ _SPELLINGS = {"°C": "degC", "℃": "degC", "°F": "degF", "℉": "degF", "°K":
 _GAUGE = ("barg", "psig", "kPag", "MPag", "mbarg")
 
 
-def _registry():  # -> pint.UnitRegistry (pint imported lazily)
-    return _make_registry()
-
-
 @cache
-def _make_registry():
+def _registry():  # -> pint.UnitRegistry, created on first use
     import pint  # deferred: costs ~0.4 s, not needed by every command
 
     try:

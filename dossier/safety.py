@@ -259,8 +259,13 @@ def td24(cp: float, ea: float, q_ref: float, t_ref: float,
     t_turn = ea / (2.0 * R)  # TMRad has its minimum here
     target = math.log(TD24_TIME_S)
 
+    def ln_tmr(T: float) -> float:
+        # ln of the Townsend-Tou formula, written out so that no
+        # exponential can overflow for extreme kinetics
+        return math.log(cp * R * T * T / (q_ref * ea)) + (ea / R) * (1.0 / T - 1.0 / t_ref)
+
     def f(T: float) -> float:
-        return math.log(tmr_ad(T, cp, ea, q_ref, t_ref)) - target
+        return ln_tmr(T) - target
 
     for lo, hi in (bracket, (100.0, 3000.0)):
         hi = min(hi, t_turn * (1.0 - 1e-9))
@@ -279,8 +284,8 @@ def td24(cp: float, ea: float, q_ref: float, t_ref: float,
             f"TD24 cannot be computed: the activation energy {ea / 1000:g} kJ/mol is too "
             f"small for the zero-order TMRad approximation (it needs Ea/(R T) well above 2)"
         )
-    t_lo_h = tmr_ad(lo, cp, ea, q_ref, t_ref) / SECONDS_PER_HOUR
-    t_hi_h = tmr_ad(hi * (1.0 - 1e-9), cp, ea, q_ref, t_ref) / SECONDS_PER_HOUR
+    t_lo_h = math.exp(min(ln_tmr(lo), 700.0)) / SECONDS_PER_HOUR
+    t_hi_h = math.exp(min(ln_tmr(hi * (1.0 - 1e-9)), 700.0)) / SECONDS_PER_HOUR
     if t_lo_h < 24.0:
         raise CaseError(
             f"TD24 is below {lo:g} K: TMRad is already {t_lo_h:.3g} h there; "
@@ -657,14 +662,13 @@ def runaway_scenario(
     v_norm, p_gas, t_gas, exceeds = None, None, None, None
     if need("gas volume", n_gas=n_gas_mol):
         v_norm = gas_volume_normal(n_gas_mol)
-    t_gas = t_final if t_final is not None else T_mtsr
+    # The gas comes from the desired reaction, so its pressure is taken at the
+    # MTSR, the highest temperature that reaction alone can reach.
+    t_gas = T_mtsr
     if need("gas pressure", n_gas=n_gas_mol, free_volume=free_volume_m3):
         if t_gas is None:
             blocked.append(("gas pressure", ("MTSR",)))
         else:
-            if t_final is None:
-                notes.append("gas pressure taken at the MTSR (no decomposition final "
-                             "temperature)")
             p0 = p_initial_Pa
             if p0 is None:
                 p0 = 0.0

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import difflib
 import functools
+import gc
 import hashlib
 import json
 import math
@@ -112,6 +113,23 @@ class _ModelBase:
         raise NotImplementedError
 
 
+def _coef_array(model) -> np.ndarray:
+    """The model's coefficients as a (segments, n) array, built on first use."""
+    arr = model.__dict__.get("_coef_cache")
+    if arr is None:
+        arr = np.array(model.coeffs, dtype=float)
+        object.__setattr__(model, "_coef_cache", arr)
+    return arr
+
+
+def _trusted(cls, **values):
+    """Build a frozen dataclass from values already in canonical form (data file)."""
+    obj = object.__new__(cls)
+    for k, v in values.items():
+        object.__setattr__(obj, k, v)
+    return obj
+
+
 def _piecewise(T, exprs: list, breakpoints: tuple[float, ...]):
     import sympy as sp
 
@@ -148,7 +166,6 @@ class Nasa7(_ModelBase):
         _check_ranges(ranges, len(coeffs), "NASA 7-coefficient model")
         object.__setattr__(self, "ranges", ranges)
         object.__setattr__(self, "coeffs", coeffs)
-        object.__setattr__(self, "_a", np.array(coeffs, dtype=float))
 
     @property
     def t_min(self) -> float:
@@ -163,7 +180,7 @@ class Nasa7(_ModelBase):
         return self.ranges[1:-1]
 
     def _coef(self, T: np.ndarray) -> np.ndarray:
-        return self._a[_segment_index(T, self.breakpoints)]  # type: ignore[attr-defined]
+        return _coef_array(self)[_segment_index(T, self.breakpoints)]
 
     def _cp(self, T):
         a = self._coef(T)
@@ -225,7 +242,6 @@ class Shomate(_ModelBase):
         object.__setattr__(self, "ranges", ranges)
         object.__setattr__(self, "coeffs", coeffs)
         object.__setattr__(self, "hf298", float(self.hf298))
-        object.__setattr__(self, "_a", np.array(coeffs, dtype=float))
 
     @property
     def t_min(self) -> float:
@@ -240,7 +256,7 @@ class Shomate(_ModelBase):
         return self.ranges[1:-1]
 
     def _coef(self, T: np.ndarray) -> np.ndarray:
-        return self._a[_segment_index(T, self.breakpoints)]  # type: ignore[attr-defined]
+        return _coef_array(self)[_segment_index(T, self.breakpoints)]
 
     def _cp(self, T):
         a = self._coef(T)
@@ -477,22 +493,26 @@ def _split_label(label: str) -> tuple[str, str | None]:
 
 
 class Library:
-    """An immutable collection of species records with lookup by id, name or formula."""
+    """An immutable collection of species records with lookup by id, name or formula.
 
-    def __init__(self, records: Iterable[SpeciesRecord], version: str = "local",
+    Records read from the data file are kept as parsed JSON and turned into
+    :class:`SpeciesRecord` objects on first use, so that loading stays fast.
+    """
+
+    def __init__(self, records: Iterable[SpeciesRecord] = (), version: str = "local",
                  sources: Mapping[str, str] | None = None,
                  overridden: Iterable[str] = (), local_ids: Iterable[str] = ()):
-        self._by_id: dict[str, SpeciesRecord] = {}
+        self._entries: dict[str, SpeciesRecord | list] = {}
         for rec in records:
-            if rec.id in self._by_id:
+            if rec.id in self._entries:
                 raise LibraryError(f"duplicate species id '{rec.id}'")
-            self._by_id[rec.id] = rec
+            self._entries[rec.id] = rec
         self.version = version
         self.sources: dict[str, str] = dict(sources or {})
         self.overridden: frozenset[str] = frozenset(overridden)
         self.local_ids: frozenset[str] = frozenset(local_ids)
-        self._names: dict[str, list[SpeciesRecord]] | None = None
-        self._formulas: dict[tuple[str, str], list[SpeciesRecord]] | None = None
+        self._names: dict[str, list[str]] | None = None
+        self._formulas: dict[tuple[str, str], list[str]] | None = None
 
     # -- loading -----------------------------------------------------------
     @classmethod
@@ -503,86 +523,122 @@ class Library:
     @classmethod
     def from_json_bytes(cls, raw: bytes) -> "Library":
         """Build a library from the bytes of a data file written by tools/build_library.py."""
+        gc_was_on = gc.isenabled()
+        gc.disable()  # parsing creates many small lists; collecting meanwhile only costs time
         try:
             data = json.loads(raw)
         except ValueError as exc:
             raise LibraryError(f"species data file is not valid JSON: {exc}") from None
+        finally:
+            if gc_was_on:
+                gc.enable()
         if not isinstance(data, dict) or data.get("format") != DATA_FORMAT:
-            raise LibraryError(f"species data file has format {data.get('format') if isinstance(data, dict) else '?'}, "
+            found = data.get("format") if isinstance(data, dict) else "?"
+            raise LibraryError(f"species data file has format {found}, "
                                f"this dossier reads format {DATA_FORMAT}")
-        sources = data.get("sources", {})
-        records = []
-        for d in data.get("records", ()):
-            key = d.get("source")
-            if key in sources:
-                d = dict(d, source=sources[key]["citation"])
-            records.append(SpeciesRecord.from_dict(d))
-        digest = hashlib.sha256(raw).hexdigest()[:12]
-        version = f"{data.get('library_version', '?')}+{digest}"
-        return cls(records, version=version,
-                   sources={k: v["citation"] for k, v in sources.items()})
+        if tuple(data.get("fields", ())) != FILE_FIELDS:
+            raise LibraryError("species data file lists unexpected record fields "
+                               f"{data.get('fields')}; expected {list(FILE_FIELDS)}")
+        try:
+            citations = {k: v["citation"] for k, v in data["sources"].items()}
+            entries: dict[str, list] = {}
+            for row in data["records"]:
+                if len(row) != len(FILE_FIELDS):
+                    raise LibraryError(f"species data file: record {row[:1]} has "
+                                       f"{len(row)} fields, expected {len(FILE_FIELDS)}")
+                if row[_ID] in entries:
+                    raise LibraryError(f"species data file: duplicate id '{row[_ID]}'")
+                if row[_SOURCE] not in citations:
+                    raise LibraryError(f"species data file: record '{row[_ID]}' names "
+                                       f"unknown source '{row[_SOURCE]}'")
+                entries[row[_ID]] = row
+        except (KeyError, TypeError, AttributeError) as exc:
+            raise LibraryError(f"species data file is damaged: missing {exc}") from None
+        lib = cls(version=f"{data.get('library_version', '?')}+{hashlib.sha256(raw).hexdigest()[:12]}",
+                  sources=citations)
+        lib._entries = entries  # type: ignore[assignment]
+        return lib
+
+    def _materialise(self, species_id: str) -> SpeciesRecord:
+        entry = self._entries[species_id]
+        if isinstance(entry, SpeciesRecord):
+            return entry
+        try:
+            rec = _record_from_file(entry, self.sources)
+        except (KeyError, TypeError, ValueError, IndexError, LibraryError) as exc:
+            raise LibraryError(f"species data file: record '{species_id}' is damaged: {exc!r}") from None
+        self._entries[species_id] = rec
+        return rec
 
     # -- basic access ------------------------------------------------------
     @property
     def records(self) -> tuple[SpeciesRecord, ...]:
-        return tuple(self._by_id.values())
+        return tuple(self._materialise(i) for i in self._entries)
+
+    @property
+    def ids(self) -> tuple[str, ...]:
+        return tuple(self._entries)
 
     def __len__(self) -> int:
-        return len(self._by_id)
+        return len(self._entries)
 
-    def __contains__(self, species_id: str) -> bool:
-        return species_id in self._by_id
+    def __contains__(self, species_id: object) -> bool:
+        return species_id in self._entries
 
     def __iter__(self):
-        return iter(self._by_id.values())
+        return (self._materialise(i) for i in self._entries)
 
     def get(self, species_id: str) -> SpeciesRecord:
-        try:
-            return self._by_id[species_id]
-        except KeyError:
-            raise SpeciesError(f"no library species with id '{species_id}'") from None
+        if species_id not in self._entries:
+            raise SpeciesError(f"no library species with id '{species_id}'")
+        return self._materialise(species_id)
 
     def with_records(self, local_records: Iterable[SpeciesRecord]) -> "Library":
         """A new library where ``local_records`` extend or replace (same id) the records here.
 
         Local records also win label lookups: a name, alias or formula that a
         local record answers to resolves to it even where library records
-        share the label.
+        share the label.  ``overridden`` lists the library ids replaced.
         """
-        local = list(local_records)
-        merged = dict(self._by_id)
+        merged = dict(self._entries)
         overridden = set(self.overridden)
         seen: set[str] = set()
-        for rec in local:
+        for rec in local_records:
             if rec.id in seen:
                 raise SpeciesError(f"case-local species id '{rec.id}' is given twice")
             seen.add(rec.id)
-            if rec.id in self._by_id and rec.id not in self.local_ids:
+            if rec.id in self._entries and rec.id not in self.local_ids:
                 overridden.add(rec.id)
             merged[rec.id] = rec
-        return Library(merged.values(), version=self.version, sources=self.sources,
-                       overridden=overridden, local_ids=self.local_ids | seen)
+        lib = Library(version=self.version, sources=self.sources, overridden=overridden,
+                      local_ids=self.local_ids | seen)
+        lib._entries = merged
+        return lib
 
     # -- indexes -----------------------------------------------------------
     def _index(self) -> None:
-        names: dict[str, list[SpeciesRecord]] = {}
-        formulas: dict[tuple[str, str], list[SpeciesRecord]] = {}
-        for rec in self._by_id.values():
-            keys = {rec.name.lower(), *(a.lower() for a in rec.aliases)}
-            for key in keys:
-                names.setdefault(key, []).append(rec)
-            formulas.setdefault((_formula_key(rec.composition, rec.charge), rec.phase), []).append(rec)
+        names: dict[str, list[str]] = {}
+        formulas: dict[tuple[str, str], list[str]] = {}
+        for sid, e in self._entries.items():
+            if isinstance(e, SpeciesRecord):
+                name, aliases, phase = e.name, e.aliases, e.phase
+                fkey = _formula_key(e.composition, e.charge)
+            else:  # data-file rows carry the Hill formula already
+                name, aliases, phase, fkey = e[_NAME], e[_ALIASES], e[_PHASE], e[_FORMULA]
+            for key in {name.lower(), *(a.lower() for a in aliases)}:
+                names.setdefault(key, []).append(sid)
+            formulas.setdefault((fkey, phase), []).append(sid)
         self._names, self._formulas = names, formulas
 
-    def _name_index(self) -> dict[str, list[SpeciesRecord]]:
+    def _by_name(self, key: str) -> list[SpeciesRecord]:
         if self._names is None:
             self._index()
-        return self._names  # type: ignore[return-value]
+        return [self._materialise(i) for i in self._names.get(key, ())]  # type: ignore[union-attr]
 
-    def _formula_index(self) -> dict[tuple[str, str], list[SpeciesRecord]]:
+    def _by_formula(self, fkey: str, phase: str) -> list[SpeciesRecord]:
         if self._formulas is None:
             self._index()
-        return self._formulas  # type: ignore[return-value]
+        return [self._materialise(i) for i in self._formulas.get((fkey, phase), ())]  # type: ignore[union-attr]
 
     def _prefer_local(self, matches: list[SpeciesRecord]) -> list[SpeciesRecord]:
         local = [r for r in matches if r.id in self.local_ids]
@@ -594,16 +650,18 @@ class Library:
 
         ``label`` is an id (``H2O(g)``), a name or alias (case-insensitive,
         ``water``) or a formula (``H2O``, compared by composition and charge).
-        The phase may also be written in the label (``water(l)``).
+        The phase may instead be written in the label (``water(l)``).
+        Raises :class:`SpeciesError` when nothing matches (with suggestions)
+        or when a formula matches several species (listing them).
         """
         body, label_phase = _split_label(label)
         if phase is None:
-            if label in self._by_id:
-                return self._by_id[label]
+            if label in self._entries:
+                return self._materialise(label)
             if label_phase is None:
                 raise SpeciesError(f"species '{label}' has no phase; write it as "
                                    f"{label}(g), {label}(l), {label}(s) or {label}(aq)")
-            phase = label_phase
+            phase, label = label_phase, body
         else:
             phase = normalise_phase(phase)
             if label_phase is not None and label_phase == phase:
@@ -611,12 +669,12 @@ class Library:
         shown = f"{label}({phase})"
 
         for candidate in (shown, label):
-            rec = self._by_id.get(candidate)
-            if rec is not None and rec.phase == phase:
-                return rec
+            if candidate in self._entries:
+                rec = self._materialise(candidate)
+                if rec.phase == phase:
+                    return rec
 
-        by_name = [r for r in self._name_index().get(label.lower(), ()) if r.phase == phase]
-        by_name = self._prefer_local(by_name)
+        by_name = self._prefer_local([r for r in self._by_name(label.lower()) if r.phase == phase])
         if len(by_name) == 1:
             return by_name[0]
         if len(by_name) > 1:
@@ -627,8 +685,8 @@ class Library:
         except FormulaError:
             parsed = None
         if parsed is not None:
-            key = (_formula_key(parsed.composition, parsed.charge), phase)
-            by_formula = self._prefer_local(list(self._formula_index().get(key, ())))
+            fkey = _formula_key(parsed.composition, parsed.charge)
+            by_formula = self._prefer_local(self._by_formula(fkey, phase))
             if len(by_formula) == 1:
                 return by_formula[0]
             if len(by_formula) > 1:
@@ -637,21 +695,25 @@ class Library:
 
     def _not_found_message(self, label: str, phase: str, parsed) -> str:
         shown = f"{label}({phase})"
-        other = [r for r in self._name_index().get(label.lower(), ()) if r.phase != phase]
+        other = [r for r in self._by_name(label.lower()) if r.phase != phase]
         if parsed is not None:
+            fkey = _formula_key(parsed.composition, parsed.charge)
             for ph in PHASES:
                 if ph != phase:
-                    other += self._formula_index().get(
-                        (_formula_key(parsed.composition, parsed.charge), ph), [])
+                    other += self._by_formula(fkey, ph)
         if other:
             ids = sorted({r.id for r in other})[:5]
-            return (f"no library species '{shown}'; other phases exist: {', '.join(ids)}")
-        keys = {}
-        for rec in self._by_id.values():
-            if rec.phase != phase:
+            return f"no library species '{shown}'; other phases exist: {', '.join(ids)}"
+        keys: dict[str, str] = {}
+        for sid, e in self._entries.items():
+            if isinstance(e, SpeciesRecord):
+                texts, ph = (e.name, e.formula, *e.aliases), e.phase
+            else:
+                texts, ph = (e[_NAME], e[_FORMULA], *e[_ALIASES]), e[_PHASE]
+            if ph != phase:
                 continue
-            for text in (rec.name, rec.formula, *rec.aliases):
-                keys.setdefault(text.lower(), rec.id)
+            for text in texts:
+                keys.setdefault(text.lower(), sid)
         close = difflib.get_close_matches(label.lower(), list(keys), n=5, cutoff=0.6)
         ids = list(dict.fromkeys(keys[c] for c in close))
         if ids:
@@ -662,24 +724,29 @@ class Library:
     def search(self, query: str) -> list[SpeciesRecord]:
         """Records whose id, name, aliases, formula or CAS number contain ``query``.
 
-        Ranked: exact matches first, then prefix matches, then other
-        substrings; formula matches (by composition) count as exact.
+        Case-insensitive.  Ranked: exact matches first (a formula query also
+        matches by composition), then prefix matches, then other substrings;
+        within a rank gas, liquid, solid, aqueous, then shorter names first.
         """
         q = query.strip().lower()
         if not q:
             return []
         try:
             parsed = parse_formula(query.strip())
-            fkey = _formula_key(parsed.composition, parsed.charge)
+            fkey: str | None = _formula_key(parsed.composition, parsed.charge)
         except FormulaError:
             fkey = None
         ranked = []
-        for rec in self._by_id.values():
-            texts = [rec.id, rec.name, rec.formula, *rec.aliases] + ([rec.cas] if rec.cas else [])
-            lowered = [t.lower() for t in texts]
-            if fkey is not None and fkey == _formula_key(rec.composition, rec.charge):
-                rank = 0
-            elif q in lowered:
+        for sid, e in self._entries.items():
+            if isinstance(e, SpeciesRecord):
+                name, formula, aliases, cas, phase = e.name, e.formula, e.aliases, e.cas, e.phase
+                ekey = _formula_key(e.composition, e.charge) if fkey is not None else None
+            else:
+                name, formula, aliases, cas, phase = (e[_NAME], e[_FORMULA], e[_ALIASES],
+                                                      e[_CAS], e[_PHASE])
+                ekey = formula
+            lowered = [t.lower() for t in (sid, name, formula, *aliases, *((cas,) if cas else ()))]
+            if (fkey is not None and fkey == ekey) or q in lowered:
                 rank = 0
             elif any(t.startswith(q) for t in lowered):
                 rank = 1
@@ -687,9 +754,9 @@ class Library:
                 rank = 2
             else:
                 continue
-            ranked.append((rank, PHASES.index(rec.phase), len(rec.name), rec.id, rec))
-        ranked.sort(key=lambda x: x[:4])
-        return [x[-1] for x in ranked]
+            ranked.append((rank, PHASES.index(phase), len(name), sid))
+        ranked.sort()
+        return [self._materialise(x[-1]) for x in ranked]
 
 
 def _ambiguous_message(shown: str, matches: list[SpeciesRecord]) -> str:
@@ -697,6 +764,39 @@ def _ambiguous_message(shown: str, matches: list[SpeciesRecord]) -> str:
     example = sorted(matches, key=lambda r: (r.name.lower(), r.id))[0]
     return (f"'{shown}' matches {len(matches)} library species: {listing}; "
             f"write the name or id instead, e.g. '{example.id}'")
+
+
+def _model_from_file(m: dict) -> Model:
+    kind = m["kind"]
+    if kind == "nasa7":
+        return _trusted(Nasa7, ranges=tuple(m["ranges"]),
+                        coeffs=tuple(map(tuple, m["coeffs"])), kind=kind)
+    if kind == "shomate":
+        return _trusted(Shomate, ranges=tuple(m["ranges"]),
+                        coeffs=tuple(map(tuple, m["coeffs"])), hf298=m["hf298"], kind=kind)
+    return model_from_dict(m)
+
+
+# Column order of records in the data file (its header repeats it as "fields").
+FILE_FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase", "model",
+               "source", "note", "uncertainty", "stable_range", "cas", "molar_mass")
+_F = {name: i for i, name in enumerate(FILE_FIELDS)}
+_ID, _NAME, _ALIASES, _FORMULA, _PHASE, _SOURCE, _CAS = (
+    _F["id"], _F["name"], _F["aliases"], _F["formula"], _F["phase"], _F["source"], _F["cas"])
+
+
+def _record_from_file(row: list, citations: Mapping[str, str]) -> SpeciesRecord:
+    """Fast path for records of the generated data file (already canonical)."""
+    (sid, name, aliases, formula, elements, charge, phase, model, source, note,
+     uncertainty, sr, cas, molar_mass) = row
+    if phase not in PHASES:
+        raise ValueError(f"unknown phase {phase!r}")
+    return _trusted(
+        SpeciesRecord, id=sid, name=name, formula=formula,
+        elements=tuple(map(tuple, elements)), charge=charge, phase=phase,
+        model=_model_from_file(model), source=citations.get(source, source),
+        aliases=tuple(aliases), note=note, uncertainty=tuple(map(tuple, uncertainty)),
+        stable_range=tuple(sr) if sr else None, cas=cas, molar_mass=molar_mass)
 
 
 @functools.lru_cache(maxsize=1)

@@ -348,7 +348,7 @@ def test_heat_entropy_balance_flags_impossible_direction():
 # --------------------------------------------------------------------------
 
 FULL = dict(
-    heat_J=72e6 * 0 + 526.358e6,   # the nitro-reduction charge above (hand calc)
+    heat_J=526.358e6,   # the nitro-reduction charge above (hand calc)
     mass_kg=950.0, cp=1900.0, t_process=333.15, accumulation=0.35, mtt=373.15,
     ea=95e3, q_ref=8.0, t_ref=473.15, decomposition_energy_J_per_kg=420e3,
     feed_time_s=4 * HOUR, ua_W_per_K=2500.0, t_coolant=288.15,
@@ -365,18 +365,33 @@ def test_runaway_scenario_with_every_input():
     assert sc.mtsr == pytest.approx(435.21, abs=0.01)
     assert sc.severity == "high"  # > 200 K (Stoessel scale, from memory)
     assert sc.td24_origin == "from kinetics"
-    assert sc.td24 == pytest.approx(td24(1900.0, 95e3, 8.0, 473.15))
-    assert sc.tmr_at_mtsr_s == pytest.approx(tmr_ad(sc.mtsr, 1900.0, 95e3, 8.0, 473.15))
-    # MTSR 435 K is above MTT 373 K; the class depends on TD24 vs MTSR.
-    expected = 3 if sc.mtsr < sc.td24 else 5 if 373.15 >= sc.td24 else 4
-    assert sc.criticality.klass == expected
+    # TD24 by the Lambert W closed form of test_td24_against_closed_form_lambert_w
+    # (common practice, no source): 418.28 K (145.1 degC).
+    K = 86400.0 * 8.0 * R * math.exp(95e3 / (R * 473.15)) / (1900.0 * 95e3)
+    u = -2.0 * lambertw(-1.0 / (2.0 * math.sqrt(K)), k=-1).real
+    assert sc.td24 == pytest.approx(95e3 / (R * u), abs=1e-6)
+    assert sc.td24 == pytest.approx(418.28, abs=0.01)
+    # TMRad at the MTSR, hand calculation (common practice, no source):
+    # q' = 8 exp(-(95000/R)(1/435.2139 - 1/473.15)) = 8 exp(-11 425.87 * 1.842262e-4)
+    #    = 8 exp(-2.104945) = 0.974819 W/kg;
+    # TMRad = 1900 * R * 435.2139^2 / (0.974819 * 95 000) = 32 311 s = 8.98 h
+    assert sc.tmr_at_mtsr_s == pytest.approx(32_311.0, rel=1e-4)
+    assert sc.probability == "medium"  # 8 h <= 8.98 h <= 24 h (Stoessel, from memory)
+    # MTT 373.15 K < TD24 418.28 K <= MTSR 435.21 K -> class 4 (Stoessel
+    # class definitions, from memory)
+    assert sc.criticality.klass == 4
     # decomposition: 420 kJ/kg / 1900 = 221.05 K (hand calc above)
     assert sc.decomposition_rise == pytest.approx(221.05, abs=0.01)
     assert sc.final_temperature == pytest.approx(435.21 + 221.05, abs=0.02)
-    # gas: 1e5 + 50 * R * T_final / 0.8 (ideal gas, common practice)
-    assert sc.gas_pressure_Pa == pytest.approx(1e5 + 50 * R * sc.final_temperature / 0.8)
-    assert sc.pressure_exceeds_design is False  # about 4.4 bar < 6 bar
-    assert sc.cooling is not None and sc.cooling.sufficient
+    # gas from the desired reaction, at the MTSR: 1e5 + 50 * R * 435.21 / 0.8
+    # = 3.262e5 Pa (ideal gas, hand calculation, common practice, no source)
+    assert sc.gas_temperature == pytest.approx(435.21, abs=0.01)
+    assert sc.gas_pressure_Pa == pytest.approx(3.262e5, rel=1e-3)
+    assert sc.pressure_exceeds_design is False  # about 3.3 bar < 6 bar
+    # cooling: 526.358 MJ over 4 h = 36 552.6 W against 2500 * 45 = 112 500 W
+    # (hand calculation, common practice, no source)
+    assert sc.cooling.release_rate_W == pytest.approx(36_552.6, abs=0.1)
+    assert sc.cooling.sufficient
 
 
 def test_runaway_scenario_lists_what_is_missing():

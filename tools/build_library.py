@@ -196,7 +196,7 @@ NASA_CAS = {
 # process species.  Anything not listed takes its name from the source table
 # or from chemicals.identifiers.
 COMMON = {
-    "7732-18-5": ("water", ["steam", "ice"]),
+    "7732-18-5": ("water", []),
     "1333-74-0": ("hydrogen", []), "7782-44-7": ("oxygen", []),
     "7727-37-9": ("nitrogen", []), "7664-41-7": ("ammonia", []),
     "124-38-9": ("carbon dioxide", []), "630-08-0": ("carbon monoxide", []),
@@ -204,11 +204,11 @@ COMMON = {
     "74-85-1": ("ethylene", ["ethene"]), "74-86-2": ("acetylene", ["ethyne"]),
     "74-98-6": ("propane", []), "115-07-1": ("propylene", ["propene"]),
     "106-97-8": ("n-butane", ["butane"]), "75-28-5": ("isobutane", []),
-    "67-56-1": ("methanol", ["methyl alcohol"]),
-    "64-17-5": ("ethanol", ["ethyl alcohol"]),
-    "71-23-8": ("1-propanol", ["n-propanol", "propan-1-ol"]),
-    "67-63-0": ("2-propanol", ["isopropanol", "isopropyl alcohol", "propan-2-ol"]),
-    "71-43-2": ("benzene", []), "108-88-3": ("toluene", ["methylbenzene"]),
+    "67-56-1": ("methanol", ["methyl alcohol", "CH3OH", "MeOH"]),
+    "64-17-5": ("ethanol", ["ethyl alcohol", "C2H5OH", "CH3CH2OH", "EtOH"]),
+    "71-23-8": ("1-propanol", ["n-propanol", "propan-1-ol", "CH3CH2CH2OH"]),
+    "67-63-0": ("2-propanol", ["isopropanol", "isopropyl alcohol", "propan-2-ol", "(CH3)2CHOH", "IPA"]),
+    "71-43-2": ("benzene", []), "108-88-3": ("toluene", ["methylbenzene", "C6H5CH3"]),
     "7647-01-0": ("hydrogen chloride", []), "7664-39-3": ("hydrogen fluoride", []),
     "10035-10-6": ("hydrogen bromide", []), "10034-85-2": ("hydrogen iodide", []),
     "10102-43-9": ("nitric oxide", ["nitrogen monoxide"]),
@@ -226,12 +226,12 @@ COMMON = {
     "7803-49-8": ("hydroxylamine", []), "74-90-8": ("hydrogen cyanide", []),
     "75-44-5": ("phosgene", ["carbonyl dichloride"]),
     "463-58-1": ("carbonyl sulfide", []), "75-15-0": ("carbon disulfide", []),
-    "50-00-0": ("formaldehyde", ["methanal"]), "64-18-6": ("formic acid", []),
-    "64-19-7": ("acetic acid", ["ethanoic acid"]),
-    "75-07-0": ("acetaldehyde", ["ethanal"]),
+    "50-00-0": ("formaldehyde", ["methanal"]), "64-18-6": ("formic acid", ["HCOOH"]),
+    "64-19-7": ("acetic acid", ["ethanoic acid", "CH3COOH", "AcOH"]),
+    "75-07-0": ("acetaldehyde", ["ethanal", "CH3CHO"]),
     "75-21-8": ("ethylene oxide", ["oxirane"]),
-    "115-10-6": ("dimethyl ether", ["methoxymethane"]),
-    "75-05-8": ("acetonitrile", []), "74-87-3": ("chloromethane", ["methyl chloride"]),
+    "115-10-6": ("dimethyl ether", ["methoxymethane", "CH3OCH3"]),
+    "75-05-8": ("acetonitrile", ["CH3CN", "MeCN"]), "74-87-3": ("chloromethane", ["methyl chloride"]),
     "75-09-2": ("dichloromethane", ["methylene chloride", "DCM"]),
     "67-66-3": ("chloroform", ["trichloromethane"]),
     "56-23-5": ("carbon tetrachloride", ["tetrachloromethane"]),
@@ -240,21 +240,21 @@ COMMON = {
     "142-82-5": ("n-heptane", ["heptane"]), "111-65-9": ("n-octane", ["octane"]),
     "540-84-1": ("isooctane", ["2,2,4-trimethylpentane"]),
     "109-66-0": ("n-pentane", ["pentane"]), "110-54-3": ("n-hexane", ["hexane"]),
-    "100-42-5": ("styrene", []), "100-41-4": ("ethylbenzene", []),
-    "108-95-2": ("phenol", []), "91-20-3": ("naphthalene", []),
+    "100-42-5": ("styrene", ["C6H5CHCH2"]), "100-41-4": ("ethylbenzene", ["C6H5C2H5"]),
+    "108-95-2": ("phenol", ["C6H5OH"]), "91-20-3": ("naphthalene", []),
     "106-99-0": ("1,3-butadiene", ["butadiene"]),
-    "67-64-1": ("acetone", ["propanone", "2-propanone"]),
-    "141-78-6": ("ethyl acetate", []), "98-95-3": ("nitrobenzene", []),
-    "62-53-3": ("aniline", []), "68-12-2": ("N,N-dimethylformamide", ["DMF"]),
+    "67-64-1": ("acetone", ["propanone", "2-propanone", "CH3COCH3", "(CH3)2CO"]),
+    "141-78-6": ("ethyl acetate", ["CH3COOC2H5", "EtOAc"]), "98-95-3": ("nitrobenzene", ["C6H5NO2"]),
+    "62-53-3": ("aniline", ["C6H5NH2"]), "68-12-2": ("N,N-dimethylformamide", ["DMF", "HCON(CH3)2"]),
     "109-99-9": ("tetrahydrofuran", ["THF", "oxolane"]),
-    "67-68-5": ("dimethyl sulfoxide", ["DMSO"]),
+    "67-68-5": ("dimethyl sulfoxide", ["DMSO", "(CH3)2SO"]),
     "123-91-1": ("1,4-dioxane", ["dioxane"]),
     "108-10-1": ("methyl isobutyl ketone", ["MIBK"]),
     "78-93-3": ("methyl ethyl ketone", ["2-butanone", "MEK"]),
-    "71-36-3": ("1-butanol", ["n-butanol"]), "75-65-0": ("tert-butanol", []),
-    "108-90-7": ("chlorobenzene", []), "95-47-6": ("o-xylene", []),
+    "71-36-3": ("1-butanol", ["n-butanol"]), "75-65-0": ("tert-butanol", ["(CH3)3COH"]),
+    "108-90-7": ("chlorobenzene", ["C6H5Cl"]), "95-47-6": ("o-xylene", []),
     "108-38-3": ("m-xylene", []), "106-42-3": ("p-xylene", []),
-    "107-21-1": ("ethylene glycol", ["ethane-1,2-diol"]),
+    "107-21-1": ("ethylene glycol", ["ethane-1,2-diol", "HOCH2CH2OH"]),
     "56-81-5": ("glycerol", ["glycerine"]), "57-13-6": ("urea", []),
     "7803-51-2": ("phosphine", []), "7803-62-5": ("silane", []),
     "7440-59-7": ("helium", []), "7440-37-1": ("argon", []),
@@ -273,7 +273,7 @@ COMMON = {
     "1310-58-3": ("potassium hydroxide", []),
     "471-34-1": ("calcium carbonate", ["calcite"]),
     "1305-78-8": ("calcium oxide", ["quicklime"]),
-    "1305-62-0": ("calcium hydroxide", ["slaked lime"]),
+    "1305-62-0": ("calcium hydroxide", ["slaked lime", "Ca(OH)2"]),
     "1309-48-4": ("magnesium oxide", []), "546-93-0": ("magnesium carbonate", []),
     "1309-37-1": ("iron(III) oxide", ["hematite"]),
     "1317-61-9": ("iron(II,III) oxide", ["magnetite"]),
@@ -296,6 +296,40 @@ COMMON = {
     "2551-62-4": ("sulfur hexafluoride", []),
 }
 
+# Names for NASA gas entries that COMMON does not cover: isomers written with
+# a qualifier after a comma, radicals and dimers.
+NASA_NAMES = {
+    "CHCO,ketyl": "ketenyl radical", "C2H2,vinylidene": "vinylidene",
+    "C2H3,vinyl": "vinyl radical", "CH3CO,acetyl": "acetyl radical",
+    "C3H3,propargyl": "propargyl radical", "C3H4,allene": "allene",
+    "C3H4,propyne": "propyne", "C3H4,cyclo-": "cyclopropene",
+    "C3H5,allyl": "allyl radical", "C3H6,cyclo-": "cyclopropane",
+    "C3H7,n-propyl": "n-propyl radical", "C3H7,i-propyl": "isopropyl radical",
+    "C4H4,1,3-cyclo-": "cyclobutadiene", "C4H6,2-butyne": "2-butyne",
+    "C4H6,cyclo-": "cyclobutene", "C4H8,1-butene": "1-butene",
+    "C4H8,cis2-buten": "cis-2-butene", "C4H8,tr2-butene": "trans-2-butene",
+    "C4H8,isobutene": "isobutene", "C4H8,cyclo-": "cyclobutane",
+    "C4H9,n-butyl": "n-butyl radical", "C4H9,i-butyl": "isobutyl radical",
+    "C4H9,s-butyl": "sec-butyl radical", "C4H9,t-butyl": "tert-butyl radical",
+    "C5H6,1,3cyclo-": "1,3-cyclopentadiene", "C5H8,cyclo-": "cyclopentene",
+    "C5H10,1-pentene": "1-pentene", "C5H10,cyclo-": "cyclopentane",
+    "C5H11,pentyl": "pentyl radical", "C5H11,t-pentyl": "tert-pentyl radical",
+    "C5H12,i-pentane": "isopentane", "CH3C(CH3)2CH3": "neopentane",
+    "C6H5,phenyl": "phenyl radical", "C6H5O,phenoxy": "phenoxy radical",
+    "C6H10,cyclo-": "cyclohexene", "C6H12,1-hexene": "1-hexene",
+    "C6H13,n-hexyl": "n-hexyl radical", "C7H7,benzyl": "benzyl radical",
+    "C7H8O,cresol": "cresol (isomer not stated by the source)",
+    "C7H14,1-heptene": "1-heptene", "C7H15,n-heptyl": "n-heptyl radical",
+    "C8H16,1-octene": "1-octene", "C8H17,n-octyl": "n-octyl radical",
+    "C9H19,n-nonyl": "n-nonyl radical", "C10H21,n-decyl": "n-decyl radical",
+    "C12H9,o-bipheny": "o-biphenylyl radical", "C12H10,bipheny": "biphenyl",
+    "FS2F,fluorodisu": "difluorodisulfane (FSSF)",
+    "S2F2,thiothiony": "thiothionyl fluoride (SSF2)",
+    "(HCOOH)2": "formic acid dimer", "(CH3COOH)2": "acetic acid dimer",
+    "C2H4O,ethylen": "ethylene oxide", "C3O2": "carbon suboxide",
+    "CH3CN": "acetonitrile", "C2N2": "cyanogen", "CLCN": "cyanogen chloride",
+}
+
 # Aqueous ions: readable common aliases beyond the CRC names.
 AQ_ALIASES = {"H+": ["proton", "hydrogen ion"], "OH-": ["hydroxide", "hydroxide ion"]}
 
@@ -305,6 +339,10 @@ _PHASE_TAG_RE = re.compile(r"^(?P<base>.*)\((?P<tag>[^()]*)\)(?P<qual>,.*)?$")
 def _clean_label(nasa_label: str) -> str:
     """NASA writes chlorine and aluminium as CL and AL; write them as Cl and Al."""
     return nasa_label.replace("CL", "Cl").replace("AL", "Al")
+
+
+def _join(note: str, more: str) -> str:
+    return f"{note}; {more}" if note else more
 
 
 def _sig(x: float, digits: int = 12) -> float:
@@ -389,6 +427,48 @@ def _composition_of(formula_text: str) -> tuple[dict, int] | None:
     return {e: float(n) for e, n in f.elements}, f.charge
 
 
+# Word parts of a substance name and the element each one implies.  The
+# identifier database in chemicals writes some hydrides without their
+# hydrogen (AlH3 as "Al", B10H14 as "B10"); a table row whose looked-up
+# formula lacks an element its name implies is skipped, not trusted.
+_NAME_IMPLIES = (
+    ("hydr", "H"), ("borane", "H"), ("silane", "H"), ("germane", "H"), ("stannane", "H"),
+    ("phosphine", "H"), ("arsine", "H"), ("stibine", "H"), ("ammon", "H"),
+    ("chlor", "Cl"), ("fluor", "F"), ("brom", "Br"), ("iod", "I"), ("sulf", "S"),
+    ("nitr", "N"), ("oxide", "O"), ("carbon", "C"), ("carbide", "C"), ("cyan", "C"),
+    ("phosph", "P"), ("silic", "Si"), ("boron", "B"), ("borate", "B"), ("borane", "B"),
+)
+
+
+_CAS_RE = re.compile(r"^\d{2,7}-\d\d-\d$")
+_FORMULA_IN_NAME_RE = re.compile(r"\s\(([A-Z][A-Za-z0-9()]*)\)")
+
+
+def _formula_fits_name(name: str, elements: dict) -> bool:
+    low = name.lower().replace("fluoren", "").replace("fluoranth", "")
+    if not all(el in elements for part, el in _NAME_IMPLIES if part in low):
+        return False
+    # a formula written in the name, e.g. "phosphorus nitride (P3N5)", must match
+    for text in _FORMULA_IN_NAME_RE.findall(name):
+        if re.fullmatch(r"[IVX]+", text):
+            continue  # an oxidation state, e.g. "titanium(IV) chloride"
+        comp = _composition_of(text)
+        if comp is not None and set(comp[0]) == set(elements) and comp[0] != elements:
+            return False
+        if comp is not None and set(comp[0]) != set(elements) and len(comp[0]) > 1:
+            return False
+    return True
+
+
+def _cas_ok(cas: str) -> bool:
+    """CAS registry number check digit."""
+    if not _CAS_RE.match(cas):
+        return False
+    digits = cas.replace("-", "")
+    body, check = digits[:-1], int(digits[-1])
+    return sum(int(d) * (i + 1) for i, d in enumerate(reversed(body))) % 10 == check
+
+
 def _nice_name(name: str) -> str:
     """'Benzene' -> 'benzene'; keep 'N,N-Dimethylformamide', 'L-Cysteine'."""
     if len(name) > 1 and name[0].isupper() and name[1].islower():
@@ -396,10 +476,15 @@ def _nice_name(name: str) -> str:
     return name
 
 
-def _load_yaml(path: Path):
-    from ruamel.yaml import YAML
+def _load_nasa(filename: str) -> list[dict]:
+    """Species entries of a Cantera data file, as the YAML mappings they were read from.
 
-    return YAML(typ="safe", pure=False).load(path.read_text(encoding="utf-8"))
+    Cantera's own (C++) YAML reader is used because it is much faster than a
+    Python YAML parser; ``input_data`` gives back each entry unchanged.
+    """
+    import cantera
+
+    return [sp.input_data for sp in cantera.Species.list_from_file(filename)]
 
 
 def _nasa_composition(comp: dict) -> tuple[dict, int] | None:
@@ -411,10 +496,7 @@ def _nasa_composition(comp: dict) -> tuple[dict, int] | None:
 
 
 def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
-    import cantera
-
-    data = _load_yaml(Path(cantera.__file__).parent / "data" / "nasa_gas.yaml")
-    species = data["species"]
+    species = _load_nasa("nasa_gas.yaml")
     hills = Counter()
     parsed = []
     for sp in species:
@@ -428,7 +510,8 @@ def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
     for sp, (elements, charge) in parsed:
         raw = sp["name"]
         th = sp["thermo"]
-        model = Nasa7(tuple(th["temperature-ranges"]), tuple(_as_nasa7(sp)))
+        r, c = _as_nasa7(sp)
+        model = Nasa7(tuple(r), tuple(c))
         label, _, qual = raw.partition(",")
         label = "e-" if raw == "Electron" else _clean_label(label)
         if raw == "Jet-A(g)":
@@ -442,17 +525,20 @@ def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
             hit = ids.by_formula(label)
             if hit is not None and _composition_of(hit.formula) == (elements, 0):
                 cas = hit.CASs
-                name = hit.common_name
+        extra = []
         if cas and cas in COMMON:
             name, extra = COMMON[cas]
-        else:
-            extra = []
         if name is None:
             name = {"e-": "electron", "Jet-A": "Jet-A fuel (NASA surrogate)"}.get(label)
-        if name is None and qual:
-            name = f"{label} ({qual})"
         if name is None:
+            name = NASA_NAMES.get(raw)
+        if name is None:
+            # the identifier database's common names for inorganic species are
+            # often trade or archaic names: keep NASA's formula as the name
             name = label
+            hit = ids.by_cas(cas) if cas else None
+            if hit is not None and hit.common_name:
+                extra = [hit.common_name]
         aliases = [raw, label, *extra]
         if qual:
             aliases.append(f"{label},{qual}")
@@ -469,12 +555,9 @@ def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
 
 
 def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
-    import cantera
-
-    data = _load_yaml(Path(cantera.__file__).parent / "data" / "nasa_condensed.yaml")
     groups: dict[str, list] = defaultdict(list)
     order = []
-    for sp in data["species"]:
+    for sp in _load_nasa("nasa_condensed.yaml"):
         m = _PHASE_TAG_RE.match(sp["name"])
         base = m.group("base") + (m.group("qual") or "")
         tag = m.group("tag")
@@ -498,11 +581,11 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 cas = hit.CASs
         name = COMMON[cas][0] if cas in COMMON else None
         extra = COMMON[cas][1] if cas in COMMON else []
-        if name is None and cas:
-            hit = ids.by_cas(cas)
-            name = hit.common_name if hit is not None else None
         if name is None:
             name = "Jet-A fuel (NASA surrogate)" if label == "Jet-A" else label
+            hit = ids.by_cas(cas) if cas else None
+            if hit is not None and hit.common_name:
+                extra = [hit.common_name]
         tm, tb = ids.tm_tb(cas)
         solids = [(t, sp) for t, sp in entries if t != "L"]
         liquids = [(t, sp) for t, sp in entries if t == "L"]
@@ -514,12 +597,12 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
             coeffs: list = []
             ok = True
             for tag, sp in items:
-                r = [float(x) for x in sp["thermo"]["temperature-ranges"]]
+                r, c = _as_nasa7(sp)
                 if ranges and abs(ranges[-1] - r[0]) > 1e-9:
                     ok = False
                     break
                 ranges = ranges[:-1] + r if ranges else r
-                coeffs += _as_nasa7(sp)
+                coeffs += c
             if not ok:
                 skipped["nasa-condensed: non-contiguous forms"] += 1
                 continue
@@ -544,19 +627,29 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
     return out
 
 
-def _as_nasa7(sp: dict) -> list[tuple]:
-    """Segments of one NASA entry as 7-coefficient tuples.
+def _as_nasa7(sp: dict) -> tuple[list[float], list[tuple]]:
+    """Temperature limits and 7-coefficient segments of one NASA entry.
 
     A few condensed entries (Cr(cr), Fe(a), Ni(cr), ZnSO4(a)) are stored in
     Cantera's file in 9-coefficient form only to allow three ranges; their
     T⁻² and T⁻¹ terms are zero, so a3..a9 are exactly the 7-coefficient set.
+    Cantera hands back a one-range entry as two identical segments with a
+    zero-width second range; that empty segment is dropped.
     """
     th = sp["thermo"]
+    ranges = [float(x) for x in th["temperature-ranges"]]
     if th.get("model", "NASA7") == "NASA7":
-        return [tuple(c) for c in th["data"]]
-    if th["model"] == "NASA9" and all(c[0] == 0 and c[1] == 0 for c in th["data"]):
-        return [tuple(c[2:]) for c in th["data"]]
-    raise ValueError(f"{sp['name']}: cannot convert thermo model {th['model']} to NASA 7")
+        coeffs = [tuple(float(x) for x in c) for c in th["data"]]
+    elif th["model"] == "NASA9" and all(c[0] == 0 and c[1] == 0 for c in th["data"]):
+        coeffs = [tuple(float(x) for x in c[2:]) for c in th["data"]]
+    else:
+        raise ValueError(f"{sp['name']}: cannot convert thermo model {th['model']} to NASA 7")
+    keep_r, keep_c = [ranges[0]], []
+    for hi, c in zip(ranges[1:], coeffs):
+        if hi > keep_r[-1]:
+            keep_r.append(hi)
+            keep_c.append(c)
+    return keep_r, keep_c
 
 
 def _read_tsv(path: Path) -> list[dict]:
@@ -619,6 +712,7 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
     base = Path(chemicals.__file__).parent
     crc = _read_tsv(base / "Heat Capacity" / "CRC Standard Thermodynamic Properties of Chemical Substances.tsv")
     webbook = {_cas_from_int(r["CAS"]): r for r in _read_tsv(base / "Misc" / "webbook_constants.tsv")}
+    webbook = {c: r for c, r in webbook.items() if _cas_ok(c)}
     shomate = json.loads((base / "Heat Capacity" / "webbook_shomate_coefficients.json").read_text())
     crc_by_cas = {r["CAS"]: r for r in crc}
     out = []
@@ -647,6 +741,12 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 skipped[f"{key} {phase}: formula not parsed"] += 1
                 continue
             elements, charge = comp
+            if not _formula_fits_name(row.get("Chemical") or hit.common_name, elements):
+                skipped[f"{key} {phase}: looked-up formula does not fit the name"] += 1
+                continue
+            if not row.get("Chemical") and _CAS_RE.match(hit.common_name or ""):
+                skipped[f"{key} {phase}: no name known for the CAS number"] += 1
+                continue
             if cas in COMMON:
                 name, extra = COMMON[cas]
             else:
@@ -689,7 +789,7 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 stable = (model.t_min, tm) if tm > model.t_min else None
             elif phase == "g" and tb is not None and tb < model.t_max:
                 stable = (max(tb, model.t_min), model.t_max)
-            note = "; ".join([f"CAS {cas}", *note_parts])
+            note = "; ".join(note_parts)
             out.append(Candidate(key, priority, phase, elements, charge, model, "", name,
                                  aliases, cas, note, stable, named_by_hand=cas in COMMON))
     return out
@@ -711,7 +811,7 @@ def _aqueous(skipped: Counter) -> list[Candidate]:
             skipped["crc aq: formula not parsed"] += 1
             continue
         elements, charge = comp
-        note = [f"CAS {r['CAS']}"]
+        note = []
         if cp is None:
             cp = 0.0
             note.append("Cp not given by the source; taken as 0 J/(mol K), so ΔfH° and S° "
@@ -750,12 +850,12 @@ def _attach_atct(cands: list[Candidate]) -> int:
         diff = abs(hf - value)
         if diff <= 2 * u:
             c.uncertainty.append(("hf", u))
-            c.note += f"; ΔfH° uncertainty ±{u / 1000:g} kJ/mol from {ATCT_CITATION}"
+            c.note = _join(c.note, f"ΔfH° uncertainty ±{u / 1000:g} kJ/mol from ATcT 1.112")
         else:
             c.uncertainty.append(("hf", _sig(diff, 4)))
-            c.note += (f"; ΔfH° differs by {diff / 1000:.3g} kJ/mol from {ATCT_CITATION} "
-                       f"({value / 1000:g} ± {u / 1000:g} kJ/mol); that difference is given "
-                       f"as the uncertainty")
+            c.note = _join(c.note, f"ΔfH° differs by {diff / 1000:.3g} kJ/mol from ATcT 1.112 "
+                                   f"({value / 1000:g} ± {u / 1000:g} kJ/mol); that difference "
+                                   f"is given as the uncertainty")
         n += 1
     return n
 
@@ -785,9 +885,9 @@ def _select(cands: list[Candidate], dropped: Counter) -> list[Candidate]:
                     by_name[key] = c
                     if c.cas:
                         by_cas.add((c.cas, c.phase))
-                    c.note += f"; stable form at 298.15 K chosen over {keeper.name}"
+                    c.note = _join(c.note, f"stable form at 298.15 K chosen over {keeper.name}")
                     continue
-                keeper.note += f"; stable form at 298.15 K chosen over {c.name}"
+                keeper.note = _join(keeper.note, f"stable form at 298.15 K chosen over {c.name}")
             dropped[f"{c.source_key} {c.phase}: same name and formula as a preferred record"] += 1
             continue
         by_name[key] = c
@@ -851,7 +951,7 @@ def build() -> tuple[dict, dict]:
             elements=tuple(sorted(c.composition.items())), charge=c.charge, phase=c.phase,
             model=c.model, source=c.source_key, note=c.note,
             uncertainty=tuple(c.uncertainty),
-            stable_range=tuple(_sig(x) for x in c.stable_range) if c.stable_range else None,
+            stable_range=tuple(round(x, 2) for x in c.stable_range) if c.stable_range else None,
             cas=c.cas, molar_mass=_sig(parse_formula(formula).molar_mass, 10),
         )
         records.append(rec)
@@ -877,16 +977,26 @@ def build() -> tuple[dict, dict]:
     return data, report
 
 
+FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase", "model",
+          "source", "note", "uncertainty", "stable_range", "cas", "molar_mass")
+
+
 def dumps(data: dict) -> str:
-    """Deterministic JSON: header keys sorted, one record per line."""
+    """Deterministic JSON: header keys sorted, then one record per line.
+
+    Records are written as arrays in the order of the header's "fields" list
+    (much faster to parse than one object per record).
+    """
     head = {k: v for k, v in data.items() if k != "records"}
+    head["fields"] = list(FIELDS)
     lines = ["{"]
     for k in sorted(head):
         lines.append(f"{json.dumps(k)}: {json.dumps(head[k], sort_keys=True, ensure_ascii=False)},")
     lines.append('"records": [')
-    recs = [json.dumps(r, sort_keys=True, ensure_ascii=False, separators=(",", ":"))
+    rows = [json.dumps([r[f] for f in FIELDS], sort_keys=True, ensure_ascii=False,
+                       separators=(",", ":"))
             for r in data["records"]]
-    lines.append(",\n".join(recs))
+    lines.append(",\n".join(rows))
     lines.append("]")
     lines.append("}")
     return "\n".join(lines) + "\n"
