@@ -18,17 +18,21 @@ Provenance
   non-negative amounts of a fixed set of simple products subject to the
   element balance - a linear programme (our formulation; the products and
   their enthalpies of formation come from the caller, i.e. the species
-  library).
+  library).  It is solved here by enumerating the vertices of the feasible
+  set (see :func:`_min_cost_vertex`), not by a general LP library: the
+  programme is tiny (about a dozen products, a handful of elements) and
+  importing a general solver would cost more start-up time than the whole
+  rest of ``dossier evaluate``.
 """
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Literal, Mapping, Sequence, Union
 
 import numpy as np
-from scipy.optimize import linprog
 
 from .elements import ATOMIC_WEIGHTS
 from .errors import CaseError, FormulaError, SpeciesError
@@ -526,6 +530,76 @@ class DecompositionEnergy:
         return tuple((n, x * self.molar_mass) for n, x in self.products)
 
 
+MAX_BASES = 50_000
+"""Most column subsets :func:`_min_cost_vertex` will enumerate (C(k, r) for k
+products and r independent elements); C(12, 6) = 924 for a dozen products."""
+
+_FEASIBILITY_TOL = 1e-10
+"""Tolerance on amounts and on the element balance, relative to the largest
+element amount (the right-hand side is scaled to 1 before solving)."""
+
+
+def _min_cost_vertex(A: np.ndarray, rhs: np.ndarray, cost: np.ndarray) -> np.ndarray | None:
+    """Minimise ``cost @ n`` subject to ``A n = rhs``, ``n >= 0``; None if infeasible.
+
+    Vertex enumeration, exact up to rounding.  The feasible set
+    {n >= 0 : A n = rhs} is a polyhedron whose vertices are its basic
+    feasible solutions: with r = rank(A), a vertex has its non-zero
+    amounts on r linearly independent columns and is the unique solution
+    of the equations restricted to them.  A linear objective that is
+    bounded below on a non-empty polyhedron with vertices attains its
+    minimum at a vertex (fundamental theorem of linear programming).  So
+    every subset of r columns is tried: subsets that are not linearly
+    independent are skipped, the restricted system is solved (in the
+    least-squares sense, which also tells whether ``rhs`` can be matched at
+    all), solutions that are negative or do not match ``rhs`` within
+    :data:`_FEASIBILITY_TOL` are dropped, and the cheapest of the rest is
+    returned (the first in subset order among equally cheap ones).
+
+    Here the objective is bounded: every column (a product's element
+    counts) is non-negative and non-zero, so ``A n = rhs`` with ``n >= 0``
+    bounds every amount.  Columns whose elements are missing from ``rhs``
+    must be zero and are removed first, which keeps the enumeration small
+    (C(7, 4) = 35 subsets for a CHNO substance and seven products).  The
+    caller scales ``rhs`` to a largest entry of 1.
+    """
+    m, k = A.shape
+    x_full = np.zeros(k)
+    absent = rhs <= 0.0
+    usable = ~np.any(A[absent] > 0.0, axis=0)
+    if not np.any(usable):
+        return x_full if not np.any(rhs > _FEASIBILITY_TOL) else None
+    cols = np.flatnonzero(usable)
+    A_u = A[:, cols]
+    r = int(np.linalg.matrix_rank(A_u))
+    n_bases = math.comb(len(cols), r)
+    if n_bases > MAX_BASES:
+        raise SpeciesError(
+            f"{len(cols)} candidate products over {r} independent elements give "
+            f"{n_bases} bases to enumerate, more than the {MAX_BASES} this solver allows; "
+            "pass fewer candidate products"
+        )
+    subsets = np.array(list(itertools.combinations(range(len(cols)), r)), dtype=int)
+    B = np.transpose(A_u[:, subsets], (1, 0, 2))          # (bases, m, r)
+    U, sv, Vt = np.linalg.svd(B, full_matrices=False)     # sv descending
+    independent = sv[:, -1] > sv[:, 0] * max(m, r) * np.finfo(float).eps
+    sv_safe = np.where(independent[:, None], sv, 1.0)
+    x = np.einsum("nij,ni->nj", Vt, np.einsum("nmi,m->ni", U, rhs) / sv_safe)
+    residual = np.einsum("nmi,ni->nm", B, x) - rhs
+    tol_balance = _FEASIBILITY_TOL * max(1.0, float(np.max(np.abs(A_u))))
+    feasible = (independent
+                & np.all(np.abs(residual) <= tol_balance, axis=1)
+                & np.all(x >= -_FEASIBILITY_TOL, axis=1))
+    if not np.any(feasible):
+        return None
+    x = np.maximum(x[feasible], 0.0)
+    chosen = subsets[feasible]
+    objective = np.einsum("ni,ni->n", x, cost[cols][chosen])
+    best = int(np.argmin(objective))
+    x_full[cols[chosen[best]]] = x[best]
+    return x_full
+
+
 def _solve_max_energy(b: dict[str, float], hf_per_g: float, charge_per_g: float,
                       products: Sequence[Product], label: str,
                       molar_mass: float | None) -> DecompositionEnergy:
@@ -554,18 +628,20 @@ def _solve_max_energy(b: dict[str, float], hf_per_g: float, charge_per_g: float,
     A = np.array([[c.get(el, 0.0) for c in prod_comp] for el in elements])
     rhs = np.array([b.get(el, 0.0) for el in elements])
     cost = np.array([float(p.hf_J_per_mol) for p in products])
-    # Scale rows so that the solver tolerances are relative to the amounts.
+    # Scale the amounts so that the tolerances are relative to them.
     scale = max(float(np.max(np.abs(rhs))), 1e-300)
-    res = linprog(cost, A_eq=A / scale, b_eq=rhs / scale, bounds=(0, None), method="highs")
-    if res.status != 0:
+    x = _min_cost_vertex(A, rhs / scale, cost)
+    if x is None:
         raise SpeciesError(
             f"{label}: the candidate products cannot balance the elements "
-            f"({res.message.strip()}); include each element in its reference state "
+            "(no non-negative amounts of them carry exactly the elements of the "
+            "substance); include each element in its reference state "
             "(C(s), H2(g), N2(g), O2(g), ...)"
         )
-    h_products = float(cost @ res.x)
+    x = x * scale
+    h_products = float(cost @ x)
     energy = hf_per_g - h_products
-    chosen = tuple((p.name, float(x)) for p, x in zip(products, res.x) if x > 1e-12)
+    chosen = tuple((p.name, float(n)) for p, n in zip(products, x) if n > 1e-12)
     return DecompositionEnergy(
         energy, chosen, UN_ENERGY_THRESHOLD_J_PER_G,
         energy >= UN_ENERGY_THRESHOLD_J_PER_G, molar_mass,
@@ -577,7 +653,8 @@ def max_decomposition_energy(formula: FormulaLike, hf_J_per_mol: float,
     """Maximum decomposition energy of one substance, J/g (positive = released).
 
     Minimises Σ n_j ΔfH°_j over n_j >= 0 subject to the element balance
-    (scipy.optimize.linprog, HiGHS), per gram of substance, and compares
+    (a linear programme, solved exactly by vertex enumeration in
+    :func:`_min_cost_vertex`), per gram of substance, and compares
     the result with the 500 J/g of the UN screening.
     """
     comp, charge, text = _composition(formula)

@@ -28,6 +28,8 @@ from typing import Sequence
 
 import numpy as np
 
+from .roots import brent
+
 P_STANDARD = 1.0e5  # Pa
 
 CONDENSED = ("s", "l")
@@ -108,8 +110,6 @@ class EquilibriumSystem:
         return total
 
     def solve(self, T: float, lnK: float) -> EquilibriumResult:
-        from scipy.optimize import brentq
-
         if not math.isfinite(lnK):
             raise ValueError("ln K must be finite")
         if not self.depends_on_extent():
@@ -128,7 +128,7 @@ class EquilibriumSystem:
             return EquilibriumResult(T, lnK, 0.0, "solved", "conversion below 1e-300")
         if f_hi <= 0:
             return EquilibriumResult(T, lnK, 1.0, "solved", "conversion complete to within 1e-300")
-        u = brentq(lambda x: self.ln_q(x) - lnK, lo, hi, xtol=1e-12, rtol=1e-14, maxiter=500)
+        u = brent(lambda x: self.ln_q(x) - lnK, lo, hi, xtol=1e-12, rtol=1e-14, maxiter=500)
         conversion = math.exp(-_softplus(-u))
         return EquilibriumResult(T, lnK, conversion, "solved")
 

@@ -30,9 +30,9 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 import numpy as np
-from scipy.optimize import brentq
 
 from .errors import CaseError
+from .roots import brent
 
 # --------------------------------------------------------------------------
 # Constants
@@ -246,11 +246,12 @@ def td24(cp: float, ea: float, q_ref: float, t_ref: float,
          bracket: tuple[float, float] = (200.0, 1500.0)) -> float:
     """TD24: the start temperature where TMRad = 24 h, K.
 
-    Solved with a bracketed root (Brent) on ln TMRad(T) - ln(24 h), to
-    better than 1e-6 K.  The bracket is capped at Ea/(2R), where the
-    approximation stops decreasing with T.  If 24 h is not crossed in the
-    bracket, it is widened once to (100 K, 3000 K); if there is still no
-    root, a :class:`CaseError` says on which side 24 h lies.
+    Solved with a bracketed root (Brent's method, :func:`dossier.roots.brent`)
+    on ln TMRad(T) - ln(24 h), to better than 1e-6 K.  The bracket is capped
+    at Ea/(2R), where the approximation stops decreasing with T.  If 24 h
+    is not crossed in the bracket, it is widened once to (100 K, 3000 K); if
+    there is still no root, a :class:`CaseError` says on which side 24 h
+    lies.
     """
     cp = _positive("specific heat capacity", cp)
     ea = _positive("activation energy", ea)
@@ -277,7 +278,7 @@ def td24(cp: float, ea: float, q_ref: float, t_ref: float,
                 return lo
             if f_hi == 0.0:
                 return hi
-            return float(brentq(f, lo, hi, xtol=1e-9, rtol=4 * np.finfo(float).eps, maxiter=200))
+            return brent(f, lo, hi, xtol=1e-9, rtol=4 * np.finfo(float).eps, maxiter=200)
     lo, hi = 100.0, min(3000.0, t_turn)
     if hi <= lo:
         raise CaseError(

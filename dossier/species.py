@@ -57,10 +57,10 @@ def _out(values: np.ndarray, scalar: bool):
 
 
 def _segment_index(T: np.ndarray, breakpoints: tuple[float, ...]) -> np.ndarray:
-    """Segment for each T: T below a join uses the lower segment (Cantera's rule)."""
+    """Segment for each T: T at or below a join uses the lower segment (as Cantera does)."""
     if not breakpoints:
         return np.zeros(T.shape, dtype=int)
-    return np.searchsorted(np.asarray(breakpoints), T, side="right")
+    return np.searchsorted(np.asarray(breakpoints), T, side="left")
 
 
 def _check_ranges(ranges: tuple[float, ...], n_segments: int, what: str) -> None:
@@ -135,7 +135,7 @@ def _piecewise(T, exprs: list, breakpoints: tuple[float, ...]):
 
     if len(exprs) == 1:
         return exprs[0]
-    pieces = [(e, T < sp.Float(bp)) for e, bp in zip(exprs, breakpoints)]
+    pieces = [(e, T <= sp.Float(bp)) for e, bp in zip(exprs, breakpoints)]
     pieces.append((exprs[-1], True))
     return sp.Piecewise(*pieces)
 
@@ -313,7 +313,7 @@ class ConstantCp(_ModelBase):
     kind: str = field(default="constant-cp", init=False)
 
     def __init__(self, hf: float, s298: float, cp: float,
-                 t_min: float = T_REF - 50.0, t_max: float = T_REF + 50.0):
+                 t_min: float = 248.15, t_max: float = 348.15):
         object.__setattr__(self, "hf", float(hf))
         object.__setattr__(self, "s298", float(s298))
         object.__setattr__(self, "cp0", float(cp))

@@ -22,6 +22,8 @@ from typing import Protocol, Sequence
 
 import numpy as np
 
+from .roots import brent
+
 R = 8.314462618  # J/(mol K), CODATA 2018 (exact: N_A * k)
 T_REF = 298.15  # K, reference temperature of the tables
 P_STANDARD = 1.0e5  # Pa, IUPAC standard pressure (1 bar)
@@ -135,8 +137,6 @@ class ReactionThermo:
         that is a root of d(ΔrG°)/dT = −ΔrS°; those extrema are located the same
         way and kept when ΔrG° there is zero to within round-off.
         """
-        from scipy.optimize import brentq
-
         if not t_high > t_low:
             return ()
         grid = np.unique(np.concatenate([
@@ -158,7 +158,7 @@ class ReactionThermo:
                     found.append(Crossover(float(a), _direction(g[i - 1] if i else ga, gb)))
                 continue
             if ga * gb < 0:
-                root = brentq(g_scalar, a, b, xtol=1e-9, rtol=1e-14)
+                root = brent(g_scalar, a, b, xtol=1e-9, rtol=1e-14, maxiter=100)
                 found.append(Crossover(float(root), _direction(ga, gb)))
         if g[-1] == 0.0 and (len(grid) < 2 or g[-2] != 0.0):
             found.append(Crossover(float(grid[-1]), _direction(g[-2], g[-1])))
@@ -167,8 +167,8 @@ class ReactionThermo:
         s = self.dS(grid)
         for i in range(len(grid) - 1):
             if s[i] * s[i + 1] < 0:
-                t_ext = brentq(lambda t: float(self.dS(np.array([t]))[0]), grid[i], grid[i + 1],
-                               xtol=1e-9, rtol=1e-14)
+                t_ext = brent(lambda t: float(self.dS(np.array([t]))[0]), grid[i], grid[i + 1],
+                              xtol=1e-9, rtol=1e-14, maxiter=100)
                 g_ext = g_scalar(t_ext)
                 if abs(g_ext) <= 1e-9 * scale and not any(abs(c.T - t_ext) < 1e-3 for c in found):
                     found.append(Crossover(float(t_ext), "touches zero"))

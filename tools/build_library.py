@@ -326,7 +326,7 @@ NASA_NAMES = {
     "FS2F,fluorodisu": "difluorodisulfane (FSSF)",
     "S2F2,thiothiony": "thiothionyl fluoride (SSF2)",
     "(HCOOH)2": "formic acid dimer", "(CH3COOH)2": "acetic acid dimer",
-    "C2H4O,ethylen": "ethylene oxide", "C3O2": "carbon suboxide",
+    "C2H4O,ethylen": "ethylene oxide", "CH2CO,ketene": "ketene", "C3O2": "carbon suboxide",
     "CH3CN": "acetonitrile", "C2N2": "cyanogen", "CLCN": "cyanogen chloride",
 }
 
@@ -456,6 +456,43 @@ def _formula_fits_name(name: str, elements: dict) -> bool:
         if comp is not None and set(comp[0]) == set(elements) and comp[0] != elements:
             return False
         if comp is not None and set(comp[0]) != set(elements) and len(comp[0]) > 1:
+            return False
+    return True
+
+
+_ELEMENT_NAMES: dict[str, str] = {}
+_MULTIPLIERS = ("", "di", "tri", "tetra", "penta", "hexa", "hepta", "octa")
+_BARE_COMPONENTS = {"C", "N", "O", "S", "B", "P", "[C]", "[N]", "[B]", "[Si]", "[SiH4]", "[BH3]"}
+
+
+def _element_names() -> dict[str, str]:
+    from chemicals.elements import periodic_table
+
+    names = {}
+    for el in periodic_table:
+        names[el.name.lower()] = el.symbol
+    names["aluminum"] = "Al"
+    names["sulphur"] = "S"
+    names["caesium"] = "Cs"
+    return names
+
+
+def _identity_fits(name: str, smiles: str | None, elements: dict) -> bool:
+    """Reject looked-up identities that are plainly another substance.
+
+    The identifier database maps some carbides and element clusters to a
+    hydride (dicarbon -> ethyne "C#C", Cr7C3 -> "C.C.C.[Cr]..." with methane
+    components).  A name that is only an element name with a multiplier
+    ("dicarbon", "ditellurium") must have a formula of that element alone, and
+    a SMILES made of several parts must not contain a bare C/N/O/S/B/P part.
+    """
+    low = name.strip().lower()
+    for el_name, symbol in _ELEMENT_NAMES.items():
+        for mult in _MULTIPLIERS:
+            if low == mult + el_name and set(elements) != {symbol}:
+                return False
+    if smiles and "." in smiles:
+        if any(part in _BARE_COMPONENTS for part in smiles.split(".")):
             return False
     return True
 
@@ -709,6 +746,9 @@ def _shomate_model(segs, hf: float, s298: float) -> Shomate:
 def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
     import chemicals
 
+    global _ELEMENT_NAMES
+    _ELEMENT_NAMES = _element_names()
+
     base = Path(chemicals.__file__).parent
     crc = _read_tsv(base / "Heat Capacity" / "CRC Standard Thermodynamic Properties of Chemical Substances.tsv")
     webbook = {_cas_from_int(r["CAS"]): r for r in _read_tsv(base / "Misc" / "webbook_constants.tsv")}
@@ -744,6 +784,9 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
             if not _formula_fits_name(row.get("Chemical") or hit.common_name, elements):
                 skipped[f"{key} {phase}: looked-up formula does not fit the name"] += 1
                 continue
+            if not _identity_fits(row.get("Chemical") or hit.common_name, hit.smiles, elements):
+                skipped[f"{key} {phase}: looked-up identity does not fit the name"] += 1
+                continue
             if not row.get("Chemical") and _CAS_RE.match(hit.common_name or ""):
                 skipped[f"{key} {phase}: no name known for the CAS number"] += 1
                 continue
@@ -775,9 +818,9 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 if phase == "l" and tm is not None and tb is not None and tm < tb:
                     lo, hi = tm, tb
                 elif phase == "s" and tm is not None and tm > T_REF:
-                    lo, hi = T_REF - 50.0, tm
+                    lo, hi = 248.15, tm
                 else:
-                    lo, hi = T_REF - 50.0, T_REF + 50.0
+                    lo, hi = 248.15, 348.15
                     note_parts.append("validity range 298.15 ± 50 K (our choice: "
                                       "melting/boiling points not known)" if phase != "g" else
                                       "validity range 298.15 ± 50 K (our choice for a constant Cp)")

@@ -1,0 +1,256 @@
+"""Integrity records: the documented serialisation, and sensitivity to every input."""
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from pathlib import Path
+
+import pytest
+
+from dossier.errors import CaseError, LibraryError, SpeciesError
+from dossier.integrity import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
+                               digest_for_case, short_digest)
+
+FIXTURES = Path(__file__).parent / "fixtures" / "cases"
+
+# SHA-256("abc"): FIPS 180-2, Appendix B.1 (SHA-256 example, one-block message).
+SHA256_ABC = "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+
+# A species record shaped like SpeciesRecord.to_dict(); invented values (test data only).
+RECORD = {
+    "id": "H2O(l)", "name": "water", "aliases": ["aqua"], "formula": "H2O",
+    "elements": [["H", 2.0], ["O", 1.0]], "charge": 0, "phase": "l",
+    "model": {"kind": "nasa7", "ranges": [273.15, 600.0],
+              "coeffs": [[72.55, -0.6624, 0.002562, -4.366e-06, 2.782e-09, -41886.5, -288.28]]},
+    "source": "invented for a test", "note": "", "uncertainty": [["hf", 40.0]],
+    "stable_range": [273.15, 373.12], "cas": "7732-18-5", "molar_mass": 18.015,
+}
+OTHER = {"id": "H2(g)", "name": "hydrogen", "phase": "g", "molar_mass": 2.016}
+SETTINGS = {"severity_bands_K": [["low", None, 50.0], ["high", 200.0, None]], "td24_h": 24}
+
+
+def _digest(case=b"case text\n", records=(RECORD, OTHER), library="L1", tool="T1",
+            settings=SETTINGS) -> str:
+    return case_digest(case, records, library, tool, settings).digest
+
+
+def _sha(text: str) -> str:
+    return hashlib.sha256(text.encode("ascii")).hexdigest()
+
+
+def test_known_answer_follows_the_documented_serialisation():
+    # The expected bytes are written out by hand from docs/signatures.md.
+    record = case_digest(b"abc", [{"id": "X(g)", "b": 1, "a": "\u00e9"}], "L1", "T1",
+                         {"z": 1.5, "a": [1, None, True]})
+    species = _sha('{"a":"\\u00e9","b":1,"id":"X(g)"}')
+    settings = _sha('{"a":[1,null,true],"z":1.5}')
+    manifest = ('{"case":"' + SHA256_ABC + '","format":"dossier-integrity-1",'
+                '"library_version":"L1","settings":"' + settings + '",'
+                '"species":[["X(g)","' + species + '"]],"tool_version":"T1"}')
+    assert record.case_file_digest == SHA256_ABC
+    assert record.species_digests == (("X(g)", species),)
+    assert record.settings_digest == settings
+    assert record.digest == _sha(manifest)
+    assert record.format == INTEGRITY_FORMAT == "dossier-integrity-1"
+
+
+def test_to_dict_carries_the_manifest_and_the_digest():
+    record = case_digest(b"abc", [OTHER], "L1", "T1", {})
+    data = record.to_dict()
+    assert data["digest"] == record.digest
+    assert data["case"] == SHA256_ABC
+    assert data["species"] == [["H2(g)", record.species_digests[0][1]]]
+    assert (data["library_version"], data["tool_version"]) == ("L1", "T1")
+    manifest = {k: v for k, v in data.items() if k != "digest"}
+    text = json.dumps(manifest, sort_keys=True, separators=(",", ":"), ensure_ascii=True)
+    assert _sha(text) == record.digest
+    with pytest.raises(AttributeError):
+        record.digest = "0" * 64  # frozen
+
+
+def test_short_form_is_twelve_hex_characters_in_groups_of_four():
+    assert short_digest(SHA256_ABC) == "ba78 16bf 8f01"
+    assert case_digest(b"abc", [], "L", "T", {}).short == short_digest(
+        case_digest(b"abc", [], "L", "T", {}).digest)
+
+
+def test_order_of_records_and_keys_does_not_matter_and_duplicates_count_once():
+    reordered = dict(reversed(list(RECORD.items())))
+    settings = dict(reversed(list(SETTINGS.items())))
+    assert _digest(records=(OTHER, reordered), settings=settings) == _digest()
+    assert _digest(records=(RECORD, OTHER, RECORD)) == _digest()
+    # Sorted by id: H2(g) before H2O(l).
+    ids = [sid for sid, _ in case_digest(b"", (RECORD, OTHER), "L", "T", {}).species_digests]
+    assert ids == ["H2(g)", "H2O(l)"]
+
+
+def test_every_single_bit_flip_of_the_case_file_changes_the_digest():
+    data = (FIXTURES / "full.md").read_bytes()
+    original = _digest(case=data)
+    seen = {original}
+    for position in range(len(data)):
+        for mask in (0x01, 0x80):
+            flipped = bytearray(data)
+            flipped[position] ^= mask
+            digest = _digest(case=bytes(flipped))
+            assert digest not in seen, (position, mask)
+            seen.add(digest)
+    assert len(seen) == 2 * len(data) + 1
+    assert _digest(case=data + b"\n") != original
+    assert _digest(case=data[:-1]) != original
+
+
+def _leaf_mutations(value, path=()):
+    """(path, changed value) for one small change of every leaf of a JSON value."""
+    if isinstance(value, dict):
+        for key, item in value.items():
+            yield from _leaf_mutations(item, path + (key,))
+    elif isinstance(value, list):
+        for index, item in enumerate(value):
+            yield from _leaf_mutations(item, path + (index,))
+    elif isinstance(value, str):
+        for i, char in enumerate(value):
+            yield path, value[:i] + chr(ord(char) ^ 1) + value[i + 1:]
+        yield path, value + " "
+    elif isinstance(value, bool):
+        yield path, not value
+    elif isinstance(value, int):
+        yield path, value + 1
+        yield path, float(value)          # 0 and 0.0 are different record values
+    elif isinstance(value, float):
+        yield path, math.nextafter(value, math.inf)
+        yield path, math.nextafter(value, -math.inf)
+        yield path, -value
+    elif value is None:
+        yield path, 0
+
+
+def _set(record, path, new):
+    copy = json.loads(json.dumps(record))
+    target = copy
+    for step in path[:-1]:
+        target = target[step]
+    target[path[-1]] = new
+    return copy
+
+
+@pytest.mark.parametrize("which", ["invented", "library"])
+def test_every_change_to_a_species_record_value_changes_the_digest(which):
+    from dossier.species import Library
+
+    record = RECORD if which == "invented" else Library.default().resolve("H2O", "l").to_dict()
+    original = _digest(records=(record, OTHER))
+    count = 0
+    for path, new in _leaf_mutations(record):
+        changed = _set(record, path, new)
+        assert _digest(records=(changed, OTHER)) != original, (path, new)
+        count += 1
+    assert count >= (100 if which == "invented" else 200)
+
+
+def test_every_bit_flip_of_a_record_s_json_that_still_parses_changes_the_digest():
+    text = json.dumps(RECORD, sort_keys=True).encode("ascii")
+    original = _digest()
+    parsed = 0
+    for position in range(len(text)):
+        flipped = bytearray(text)
+        flipped[position] ^= 0x01
+        try:
+            changed = json.loads(bytes(flipped))
+        except ValueError:
+            continue
+        if not isinstance(changed, dict) or not isinstance(changed.get("id"), str):
+            continue
+        parsed += 1
+        assert _digest(records=(changed, OTHER)) != original, position
+    assert parsed >= 200
+
+
+def test_versions_and_settings_are_part_of_the_digest():
+    original = _digest()
+    assert _digest(library="L2") != original
+    assert _digest(tool="T2") != original
+    assert _digest(settings={**SETTINGS, "td24_h": 25}) != original
+    assert _digest(settings={**SETTINGS, "extra": None}) != original
+    assert _digest(records=(RECORD,)) != original
+    # A field must not be able to stand in for another: same text, other slot.
+    assert _digest(library="T1", tool="L1") != original
+
+
+@pytest.mark.parametrize("settings, error, text", [
+    ({"t": math.inf}, ValueError, "value.t is inf; only finite numbers can be digested"),
+    ({"t": [math.nan]}, ValueError, "value.t[0] is nan"),
+    ({1: "a"}, TypeError, "value has the key 1; keys must be strings"),
+    ({"t": {1, 2}}, TypeError, "value.t is a set; only JSON values can be digested"),
+])
+def test_settings_that_are_not_plain_json_are_refused(settings, error, text):
+    with pytest.raises(error) as info:
+        case_digest(b"", [], "L", "T", settings)
+    assert text in str(info.value)
+
+
+def test_a_species_record_without_id_is_refused():
+    with pytest.raises(LibraryError, match="a species record without a text id"):
+        case_digest(b"", [{"name": "water"}], "L", "T", {})
+
+
+def test_canonical_json_escapes_non_ascii_and_has_no_whitespace():
+    assert canonical_json({"b": [1, 2.5], "a": "Δ"}) == '{"a":"\\u0394","b":[1,2.5]}'
+
+
+CASE_TEXT = """+++
+title = "Hydrogen burn"
+revision = 2
+status = "submitted"
+reaction = "intermediate B(l) + 2 H2(g) + O2(g) -> 2 H2O(l)"
+temperature = ["20 degC", "78 degC"]
+inerts = {{ "N2(g)" = "0.5 mol" }}
+
+[[species]]
+name = "intermediate B"
+formula = "C8H9NO2"
+phase = "l"
+hf = "-310 kJ/mol"
+s = "250 J/(mol*K)"
+cp = "290 J/(mol*K)"
+source = "{source}"
++++
+Narrative.
+"""
+
+
+def test_digest_for_case_reads_the_case_and_the_species_it_uses(tmp_path):
+    path = tmp_path / "burn.md"
+    path.write_text(CASE_TEXT.format(source="estimate"), encoding="utf-8")
+    record, revision, case_id = digest_for_case(path)
+    assert (revision, case_id) == (2, "burn")
+    assert record.case_file_digest == hashlib.sha256(path.read_bytes()).hexdigest()
+    # Library species of the reaction and the inerts; the case-local species is in the file.
+    assert [sid for sid, _ in record.species_digests] == ["H2(g)", "H2O(l)", "N2(g)", "O2(g)"]
+    assert digest_for_case(path)[0] == record
+
+    path.write_text(CASE_TEXT.format(source="estimaTe"), encoding="utf-8")
+    assert digest_for_case(path)[0].digest != record.digest
+
+
+def test_digest_for_case_reports_an_unknown_species_with_file_and_line(tmp_path):
+    path = tmp_path / "bad.md"
+    path.write_text(CASE_TEXT.format(source="x").replace("O2(g) ->", "Zz9(g) ->"),
+                    encoding="utf-8")
+    with pytest.raises(SpeciesError) as info:
+        digest_for_case(path)
+    problem = info.value.problems[0]
+    assert (problem.file, problem.line, problem.key) == (str(path), 5, "reaction")
+
+
+def test_digest_for_case_reports_a_missing_file(tmp_path):
+    with pytest.raises(CaseError, match="cannot read the case file"):
+        digest_for_case(tmp_path / "none.md")
+
+
+def test_integrity_record_is_a_frozen_dataclass():
+    record = IntegrityRecord("d", "c", (), "s", "L", "T")
+    assert record.short == "d"
+    with pytest.raises(AttributeError):
+        record.tool_version = "x"
