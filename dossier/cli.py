@@ -135,5 +135,15 @@ def build(cases_dir: Path, out_dir: Path, strict: bool) -> None:
         sys.exit(EXIT_BAD_INPUT)
 
 
+def _add_signing_commands() -> None:
+    from .signing_cli import COMMANDS
+
+    for command in COMMANDS:
+        main.add_command(command)
+
+
+_add_signing_commands()
+
+
 if __name__ == "__main__":  # pragma: no cover
     main()

@@ -26,7 +26,6 @@ import functools
 import gc
 import hashlib
 import json
-import math
 from dataclasses import dataclass, field
 from importlib import resources
 from typing import Any, Iterable, Mapping
@@ -816,6 +815,8 @@ _MODEL_NAMES = {"nasa7": "NASA 7-coefficient polynomials", "shomate": "Shomate e
 
 
 def _fmt(x: float, digits: int = 3) -> str:
+    if abs(x) < 0.5 * 10.0**-digits:
+        x = 0.0  # no "−0.000"
     text = f"{x:,.{digits}f}".replace(",", " ")
     return text.replace("-", "−")
 

@@ -5,6 +5,7 @@ import csv
 import importlib.util
 import json
 import math
+import sys
 import time
 from importlib import resources
 from pathlib import Path
@@ -20,10 +21,22 @@ DATA = resources.files("dossier").joinpath("data/species.json")
 LIB = Library.default()
 
 
+def _chemicals_data(*parts: str) -> Path:
+    """A data file shipped with the chemicals package, found without importing it."""
+    spec = importlib.util.find_spec("chemicals")
+    if spec is None or spec.origin is None:
+        pytest.skip("chemicals is not installed")
+    return Path(spec.origin).parent.joinpath(*parts)
+
+
 def _load_builder():
     spec = importlib.util.spec_from_file_location("build_library", ROOT / "tools" / "build_library.py")
     module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)
+    sys.modules[spec.name] = module  # dataclasses in the script look their module up
+    try:
+        spec.loader.exec_module(module)
+    finally:
+        del sys.modules[spec.name]
     return module
 
 
@@ -127,11 +140,10 @@ def test_all_nasa_gas_records_carry_cantera_polynomials_faithfully():
 
 def test_janaf_water_values_used_in_tests_agree_with_the_janaf_cp_table():
     """Confirms the from-memory JANAF numbers for H2O(g) at 1000 K."""
-    chemicals = pytest.importorskip("chemicals")
     from scipy.integrate import quad
     from scipy.interpolate import CubicSpline
 
-    path = Path(chemicals.__file__).parent / "Heat Capacity" / "JANAF_1998_gas_Cp.json"
+    path = _chemicals_data("Heat Capacity", "JANAF_1998_gas_Cp.json")
     T, cp = (np.array(x) for x in json.loads(path.read_text())["7732-18-5"])
     keep = T >= 200.0
     spline = CubicSpline(T[keep], cp[keep])
@@ -146,8 +158,7 @@ def test_janaf_water_values_used_in_tests_agree_with_the_janaf_cp_table():
 
 
 def test_atct_uncertainties_come_from_the_atct_table():
-    chemicals = pytest.importorskip("chemicals")
-    path = Path(chemicals.__file__).parent / "Reactions" / "ATcT 1.112 (g).tsv"
+    path = _chemicals_data("Reactions", "ATcT 1.112 (g).tsv")
     with path.open(encoding="utf-8") as fh:
         rows = {r["CAS"]: r for r in csv.DictReader(fh, delimiter="\t")}
     water = LIB.get("H2O(g)")

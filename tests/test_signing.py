@@ -15,7 +15,7 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
 from dossier.cli import _Group
 from dossier.errors import SignatureError
 from dossier.integrity import case_digest
-from dossier.signing import (FIELDS, SignedReview, TrustedKey, append_signature,
+from dossier.signing import (SignedReview, TrustedKey, append_signature,
                              generate_keypair, load_private_key, load_signatures, make_review,
                              parse_signatures, parse_trusted_keys, public_key_text, sign_review,
                              trusted_key_line, verify_reviews, verify_signature,
@@ -285,6 +285,33 @@ def test_every_flip_of_a_signature_block_is_caught():
             outcomes[r.status] = outcomes.get(r.status, 0) + 1
     assert sum(outcomes.values()) == 3 * len(data)
     assert outcomes["invalid"] >= 200   # the signature check itself caught these
+
+
+BASE64_ALPHABET = "ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/"
+
+
+@pytest.mark.parametrize("field", ["key", "signature"])
+def test_every_bit_of_every_base64_character_is_caught(field):
+    # Flips in base64 space, including the unused bits of the last character
+    # before '=', which decode to the same bytes.
+    key = rfc_key()
+    review = review_by(key)
+    keys = [trusted(key)]
+    value = getattr(review, field)
+    count = 0
+    for i, char in enumerate(value.rstrip("=")):
+        for bit in range(6):
+            other = BASE64_ALPHABET[BASE64_ALPHABET.index(char) ^ (1 << bit)]
+            changed = replace(review, **{field: value[:i] + other + value[i + 1:]})
+            data = changed.to_text().encode("utf-8")
+            try:
+                reviews = parse_signatures(data, "burn.signatures")
+            except SignatureError:
+                count += 1
+                continue
+            assert status_of(reviews[0], keys).status == "invalid", (i, bit)
+            count += 1
+    assert count >= 6 * 43
 
 
 def test_every_flip_of_a_trusted_key_line_is_caught():

@@ -53,7 +53,6 @@ import re
 import sys
 from collections import Counter, defaultdict
 from dataclasses import dataclass, field
-from fractions import Fraction
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -367,7 +366,6 @@ class Candidate:
     note: str = ""
     stable_range: tuple | None = None
     uncertainty: list = field(default_factory=list)
-    named_by_hand: bool = False
 
     @property
     def hill(self) -> str:
@@ -587,7 +585,7 @@ def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
         out.append(Candidate("nasa-gas", 0, "g", elements, charge, model,
                              label if not qual else "", name, aliases, cas,
                              f"NASA name {raw}; reference code {str(th.get('note', '')).strip()}",
-                             stable, named_by_hand=cas in COMMON))
+                             stable))
     return out
 
 
@@ -645,14 +643,15 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 continue
             model = Nasa7(tuple(ranges), tuple(coeffs))
             names = ", ".join(sp["name"] for _, sp in items)
-            notes = "; ".join(f"{sp['name']}: {str(sp['thermo'].get('note', '')).strip()}"
-                              for _, sp in items)
-            if len(items) > 1:
-                notes = (f"solid forms joined in order of temperature ({names}); "
-                         f"enthalpy steps at the joins are the transition enthalpies; " + notes)
-            note = f"NASA names {names}; reference code " + notes if len(items) == 1 else notes
             if len(items) == 1:
-                note = f"NASA name {names}; reference code {str(items[0][1]['thermo'].get('note', '')).strip()}"
+                code = str(items[0][1]["thermo"].get("note", "")).strip()
+                note = f"NASA name {names}; reference code {code}"
+            else:
+                codes = "; ".join(f"{sp['name']}: {str(sp['thermo'].get('note', '')).strip()}"
+                                  for _, sp in items)
+                note = (f"NASA names {names}: solid forms joined in order of temperature; "
+                        f"the enthalpy steps at the joins are the transition enthalpies; "
+                        f"reference codes {codes}")
             lo, hi = model.t_min, model.t_max
             if phase == "l" and tb is not None and lo < tb < hi:
                 hi = tb
@@ -660,7 +659,7 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
             out.append(Candidate("nasa-condensed", 0, phase, elements, charge, model,
                                  label if not qual else "",
                                  name, [*raw_names, label, *extra], cas, note, (lo, hi),
-                                 named_by_hand=cas in COMMON))
+                                 ))
     return out
 
 
@@ -834,7 +833,7 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 stable = (max(tb, model.t_min), model.t_max)
             note = "; ".join(note_parts)
             out.append(Candidate(key, priority, phase, elements, charge, model, "", name,
-                                 aliases, cas, note, stable, named_by_hand=cas in COMMON))
+                                 aliases, cas, note, stable))
     return out
 
 

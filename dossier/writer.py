@@ -1,0 +1,168 @@
+"""The only module that writes the published site to disk.
+
+:func:`write_site` takes the complete set of output files (relative path →
+bytes), writes them into a fresh temporary folder next to the target, and
+only when every file is written swaps that folder into place.  An error or
+an interruption part-way leaves the previous site exactly as it was (the
+temporary folder is removed).
+
+Where a site may be written (:func:`check_target`):
+
+* never ``/``, the home folder, the cases folder, or any folder that
+  contains one of those (``--out .`` in a project would replace the
+  project);
+* never a symbolic link;
+* an existing folder only when it is empty or carries the marker file
+  :data:`MARKER` that every site written here has, i.e. it looks like a
+  previous dossier site.
+
+Output paths are checked too (:func:`check_relpath`): relative, forward
+slashes, no ``..``, no empty or hidden parts, nothing outside the folder.
+"""
+from __future__ import annotations
+
+import ctypes
+import ctypes.util
+import os
+import shutil
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path, PurePosixPath
+from typing import Iterable, Mapping
+
+from .errors import DossierError, Problem
+
+#: Marker file written into every site; its presence lets a rebuild replace the folder.
+MARKER = ".dossier-site"
+MARKER_TEXT = ("This folder is a dossier site. `dossier build` replaces it as a whole "
+               "on every build; do not keep other files here.\n")
+
+
+class OutputError(DossierError):
+    """The output folder cannot or must not be written."""
+
+
+@dataclass(frozen=True)
+class WriteResult:
+    out_dir: Path
+    files: int
+    bytes: int
+    replaced: bool  # a previous site was replaced
+
+
+def _problem(message: str, out_dir: Path) -> OutputError:
+    return OutputError(Problem(message, str(out_dir), None, "--out"))
+
+
+def _is_within(path: Path, parent: Path) -> bool:
+    try:
+        path.relative_to(parent)
+        return True
+    except ValueError:
+        return False
+
+
+def check_target(out_dir: Path, protected: Iterable[Path] = ()) -> Path:
+    """The resolved output folder, or OutputError when it must not be written.
+
+    ``protected`` are folders the site must neither be nor contain (the
+    cases folder; the home folder and ``/`` are always protected).
+    """
+    out_dir = Path(out_dir)
+    if out_dir.is_symlink():
+        raise _problem("the output folder is a symbolic link; give the real folder", out_dir)
+    target = out_dir.expanduser().resolve()
+    guarded = [Path("/"), Path.home().resolve(), *(Path(p).expanduser().resolve() for p in protected)]
+    for g in guarded:
+        if target == g:
+            what = ("the root folder" if g == Path("/") else
+                    "the home folder" if g == Path.home().resolve() else "the cases folder")
+            raise _problem(f"refusing to write the site into {what} ({g}); "
+                           "choose a separate folder such as 'site'", out_dir)
+        if _is_within(g, target):
+            raise _problem(f"refusing to write the site into {target}: it contains {g}, "
+                           "which a build would replace; choose a separate folder such as 'site'",
+                           out_dir)
+    if target.exists():
+        if not target.is_dir():
+            raise _problem("the output path exists and is not a folder", out_dir)
+        if not (target / MARKER).is_file() and any(target.iterdir()):
+            raise _problem(f"the folder is not empty and does not look like a dossier site "
+                           f"(no {MARKER} file); refusing to replace it. Choose a new or "
+                           "empty folder, or remove this one yourself", out_dir)
+    if not target.parent.is_dir():
+        raise _problem(f"the parent folder {target.parent} does not exist", out_dir)
+    return target
+
+
+def check_relpath(rel: str) -> PurePosixPath:
+    """A safe relative output path, or ValueError."""
+    if not isinstance(rel, str) or not rel or "\\" in rel or "\x00" in rel:
+        raise ValueError(f"unsafe output path {rel!r}")
+    p = PurePosixPath(rel)
+    if p.is_absolute() or any(part in ("", ".", "..") for part in p.parts):
+        raise ValueError(f"unsafe output path {rel!r}")
+    if any(part.startswith(".") for part in p.parts) and rel != MARKER:
+        raise ValueError(f"hidden output path {rel!r}")
+    return p
+
+
+# -- atomic exchange of two folders (Linux renameat2), else two renames ----
+
+_RENAME_EXCHANGE = 2
+_AT_FDCWD = -100
+
+
+def _exchange(a: Path, b: Path) -> bool:
+    """Atomically swap the folders ``a`` and ``b``; False where unsupported."""
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or None, use_errno=True)
+        fn = libc.renameat2
+    except (OSError, AttributeError):
+        return False
+    fn.argtypes = [ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint]
+    rc = fn(_AT_FDCWD, os.fsencode(a), _AT_FDCWD, os.fsencode(b), _RENAME_EXCHANGE)
+    return rc == 0
+
+
+def write_site(out_dir: Path, files: Mapping[str, bytes],
+               protected: Iterable[Path] = ()) -> WriteResult:
+    """Write ``files`` as the complete new content of ``out_dir``, atomically."""
+    target = check_target(out_dir, protected)
+    checked = [(check_relpath(rel), data) for rel, data in sorted(files.items())]
+    tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.building-", dir=target.parent))
+    old: Path | None = None
+    try:
+        total = 0
+        for rel, data in checked:
+            dest = tmp.joinpath(*rel.parts)
+            dest.parent.mkdir(parents=True, exist_ok=True)
+            with open(dest, "xb") as fh:
+                fh.write(data)
+            total += len(data)
+        (tmp / MARKER).write_text(MARKER_TEXT, encoding="utf-8")
+        os.chmod(tmp, 0o755)  # mkdtemp makes 0700; a site is meant to be read
+        replaced = target.exists()
+        if not replaced:
+            os.rename(tmp, target)
+        elif _exchange(tmp, target):
+            old = tmp  # now holds the previous site
+        else:
+            old = Path(tempfile.mkdtemp(prefix=f".{target.name}.old-", dir=target.parent))
+            os.rename(target, old / "site")
+            try:
+                os.rename(tmp, target)
+            except BaseException:
+                os.rename(old / "site", target)  # put the previous site back
+                raise
+        return WriteResult(target, len(checked), total, replaced)
+    except BaseException:
+        if tmp.exists() and (old is None or tmp != old):
+            shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    finally:
+        if old is not None:
+            shutil.rmtree(old, ignore_errors=True)
+
+
+__all__ = ["MARKER", "OutputError", "WriteResult", "check_relpath", "check_target", "write_site"]
