@@ -18,7 +18,25 @@ from .errors import EXIT_BAD_INPUT, DossierError
 
 
 class _Group(click.Group):
-    """Runs a command and reports DossierError as plain problems (exit 2)."""
+    """Runs a command and reports DossierError as plain problems (exit 2).
+
+    The signing commands live in :mod:`dossier.signing_cli` and are loaded only
+    when asked for, so that commands such as ``evaluate`` do not pay for
+    importing the cryptography library.
+    """
+
+    _LAZY = ("keygen", "sign", "verify")
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted(set(super().list_commands(ctx)) | set(self._LAZY))
+
+    def get_command(self, ctx: click.Context, name: str):
+        if name in self._LAZY and name not in self.commands:
+            from .signing_cli import COMMANDS
+
+            for command in COMMANDS:
+                self.add_command(command)
+        return super().get_command(ctx, name)
 
     def invoke(self, ctx: click.Context):
         try:
@@ -133,16 +151,6 @@ def build(cases_dir: Path, out_dir: Path, strict: bool) -> None:
         sys.exit(EXIT_BAD_INPUT)
     if report.failed:
         sys.exit(EXIT_BAD_INPUT)
-
-
-def _add_signing_commands() -> None:
-    from .signing_cli import COMMANDS
-
-    for command in COMMANDS:
-        main.add_command(command)
-
-
-_add_signing_commands()
 
 
 if __name__ == "__main__":  # pragma: no cover

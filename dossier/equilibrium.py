@@ -114,13 +114,16 @@ class EquilibriumSystem:
             raise ValueError("ln K must be finite")
         if not self.depends_on_extent():
             lnq = self.ln_q_fixed()
+            if all(s.phase in CONDENSED for s in self.species):
+                why = ("every species is a pure solid or liquid (activity 1), so the model "
+                       "gives all or nothing; a real liquid mixture stops at an intermediate "
+                       "equilibrium that needs activity data")
+            else:
+                why = ("the reaction quotient is fixed by the pressure (one gas, pure "
+                       "condensed partners), so the answer is all or nothing")
             if lnK > lnq:
-                return EquilibriumResult(T, lnK, 1.0, "all-or-nothing",
-                                         "the reaction quotient does not depend on the extent: "
-                                         "complete where K exceeds it")
-            return EquilibriumResult(T, lnK, 0.0, "all-or-nothing",
-                                     "the reaction quotient does not depend on the extent: "
-                                     "no reaction where K is below it")
+                return EquilibriumResult(T, lnK, 1.0, "all-or-nothing", why)
+            return EquilibriumResult(T, lnK, 0.0, "all-or-nothing", why)
         lo, hi = -750.0, 750.0
         f_lo = self.ln_q(lo) - lnK
         f_hi = self.ln_q(hi) - lnK

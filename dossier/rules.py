@@ -178,27 +178,34 @@ def missing(subj) -> Iterator[Finding]:
     s = subj.safety
     if s is None or not s.not_assessed:
         return
-    figures = "; ".join(f"{fig} (needs {', '.join(m)})" for fig, m in s.not_assessed)
+    figures = ", ".join(fig for fig, _m in s.not_assessed)
+    needs = "; ".join(s.missing_inputs) if s.missing_inputs else "see the list of figures"
     yield Finding("missing-safety-inputs", "warning",
-                  f"Not assessed for lack of inputs: {figures}.",
-                  "Completeness of the case file")
+                  f"Not assessed for lack of inputs: {figures}. Missing from the case file: "
+                  f"{needs}.", "Completeness of the case file")
 
 
 @rule("energetic-species")
 def energetic(subj) -> Iterator[Finding]:
+    """Species whose decomposition could release much energy, or that carry explosophores."""
     s = subj.safety
     if s is None:
         return
     for e in s.energetics:
-        if e.screening_outcome == "no further tests":
+        high = e.max_decomposition_J_per_g is not None and e.max_decomposition_J_per_g >= 500.0
+        if not (high or e.explosophores):
             continue
-        parts = [f"{e.species}: explosive-property screening outcome '{e.screening_outcome}'"]
-        if e.oxygen_balance_pct is not None:
-            parts.append(f"oxygen balance {e.oxygen_balance_pct:.1f} %")
-        if e.max_decomposition_J_per_g is not None:
-            parts.append(f"maximum decomposition energy {e.max_decomposition_J_per_g:.0f} J/g")
-        sev = "warning" if (e.max_decomposition_J_per_g or 0) >= 500 or e.explosophores else "caution"
-        yield Finding("energetic-species", sev,
-                      "; ".join(parts) + f" ({e.screening_reason}).",
+        parts = []
+        if high:
+            parts.append(f"its most exothermic decomposition into simple products would release "
+                         f"{e.max_decomposition_J_per_g:.0f} J/g, above the 500 J/g screening level")
+        if e.explosophores:
+            parts.append("it carries explosophore groups (" + ", ".join(e.explosophores) + ")")
+        ob = (f"; oxygen balance {e.oxygen_balance_pct:.1f} %" if e.oxygen_balance_pct is not None
+              else "")
+        yield Finding("energetic-species", "warning",
+                      f"{e.species}: " + " and ".join(parts) + ob +
+                      f". Screening outcome: {e.screening_outcome} ({e.screening_reason}). "
+                      "Measure the decomposition energy and onset (DSC) of the real material.",
                       "UN Manual of Tests and Criteria, Appendix 6 screening (from memory); "
                       "oxygen balance; maximum decomposition energy by linear programming")

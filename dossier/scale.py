@@ -60,7 +60,9 @@ def _energetic_screen(rec: SpeciesRecord, smiles: str | None, case: "Case",
     # species, so the species is screened on its own estimated maximum
     # decomposition energy (an upper bound) with its onset unknown.
     try:
-        scr = energetics.un_screening(comp, smiles=smiles, decomposition_energy_J_per_g=dec)
+        # A negative maximum means no exothermic decomposition into these products.
+        scr = energetics.un_screening(comp, smiles=smiles, decomposition_energy_J_per_g=(
+            max(dec, 0.0) if dec is not None else None))
         outcome, reason = scr.outcome, scr.reason
         hits = tuple(h.name for h in scr.groups.hits)
         note = scr.groups.note
@@ -169,6 +171,8 @@ def assess_safety(case: "Case", reaction: "Reaction",
         not_assessed = (("heat and entropy at scale", ("[charge] table",)),) + sc.blocked
     else:
         not_assessed = sc.blocked
+    if sc.criticality.klass is None:
+        not_assessed += (("criticality class", sc.criticality.missing),)
     missing = sc.missing if ch is not None else (("[charge] table (basis, amount, mass, cp, "
                                                   "process_temperature, accumulation)",)
                                                  + sc.missing)

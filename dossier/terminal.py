@@ -75,10 +75,12 @@ def render_assessment(a: Assessment) -> str:
         for f in a.findings:
             out.append(f"  [{f.severity}] {f.text}")
             out.append(f"      source: {f.source}")
-    if a.warnings:
+    shown = {f.text for f in a.findings}
+    rest = [w for w in a.warnings if w not in shown]
+    if rest:
         out.append("")
-        out.append("Data warnings")
-        for w in a.warnings:
+        out.append("Data notes")
+        for w in rest:
             out.append(f"  - {w}")
     out.append("")
     out.append("Cautions")
