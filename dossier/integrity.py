@@ -26,6 +26,8 @@ file and the shipped species library.
 """
 from __future__ import annotations
 
+import re
+
 import hashlib
 import json
 import math
@@ -184,6 +186,75 @@ def current_method_settings() -> dict[str, Any]:
     }
 
 
+_REVIEW_HEADER = re.compile(rb"^[ \t]*\[\[[ \t]*review[ \t]*\]\][ \t]*(#.*)?$")
+_TABLE_HEADER = re.compile(rb"^[ \t]*\[")
+_FENCE = re.compile(rb"^\+\+\+[ \t]*$")
+
+
+def without_review_tables(data: bytes) -> bytes:
+    """The case file's bytes with its ``[[review]]`` tables left out.
+
+    A verdict recorded in the case file must not change the digest of what it
+    approved, so the digest covers everything else: every other header line
+    byte for byte, and the whole narrative.  A review table runs from its
+    ``[[review]]`` line to the next table header or the closing ``+++``.
+    """
+    lines = data.splitlines(keepends=True)
+    out: list[bytes] = []
+    fences = 0
+    skipping = False
+    for line in lines:
+        bare = line.rstrip(b"\r\n")
+        if fences == 1 and _FENCE.match(bare):
+            skipping = False
+        if fences == 1 and _REVIEW_HEADER.match(bare):
+            skipping = True
+            continue
+        if skipping and _TABLE_HEADER.match(bare):
+            skipping = False
+        if _FENCE.match(bare) and fences < 2:
+            fences += 1
+        if not skipping:
+            out.append(line)
+    return b"".join(out)
+
+
+@dataclass(frozen=True)
+class RecordedReview:
+    """A ``[[review]]`` table of the case file, checked against the current digest."""
+
+    name: str
+    role: str
+    date: str
+    verdict: str
+    status: str  # "matches" | "changed since reviewed" | "no digest recorded"
+    explanation: str
+
+
+def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview, ...]:
+    """Compare the digest each recorded verdict names with the case as it is now.
+
+    A recorded digest may be written in full or as its first 12 or more hex
+    digits (spaces allowed, as the pages print it).
+    """
+    out = []
+    for r in reviews:
+        recorded = (r.digest or "").replace(" ", "").lower()
+        if not recorded:
+            status = "no digest recorded"
+            why = ("the verdict does not name the digest it accepted, so it cannot be tied to "
+                   "this revision's data")
+        elif len(recorded) >= 12 and current_digest.startswith(recorded):
+            status = "matches"
+            why = "the case and its data are unchanged since this verdict"
+        else:
+            status = "changed since reviewed"
+            why = (f"the verdict names digest {short_digest(recorded) if len(recorded) >= 12 else recorded}, "
+                   f"but the case or its data now give {short_digest(current_digest)}")
+        out.append(RecordedReview(r.name, r.role, r.date.isoformat(), str(r.verdict), status, why))
+    return tuple(out)
+
+
 def digest_for_case(case_path: str | Path) -> tuple[IntegrityRecord, int, str]:
     """(integrity record, revision, case id) of the case file at ``case_path``.
 
@@ -220,5 +291,6 @@ def digest_for_case(case_path: str | Path) -> tuple[IntegrityRecord, int, str]:
             records.append(library.resolve(label, phase).to_dict())
         except DossierError as err:
             raise err.located(str(case_path), case.line_of(key), key) from None
-    record = case_digest(data, records, library.version, __version__, current_method_settings())
+    record = case_digest(without_review_tables(data), records, library.version, __version__,
+                         current_method_settings())
     return record, case.revision, case.id

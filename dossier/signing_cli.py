@@ -167,6 +167,24 @@ def verify(cases_dir: Path) -> None:
         results += [(case_id, s) for s in
                     verify_reviews(reviews, trusted, record.digest, revision, case_id=case_id)]
 
+    # Verdicts recorded in the case files' [[review]] tables name the digest
+    # they accepted; a case changed since then is reported the same way.
+    recorded: list[tuple[str, integrity.RecordedReview]] = []
+    from .casefile import load_case
+
+    for case_file in sorted(cases_dir.glob("*.md")):
+        try:
+            case = load_case(case_file)
+            if not case.reviews:
+                continue
+            record, _revision, _ = integrity.digest_for_case(case_file)
+        except DossierError as err:
+            bad_input = True
+            for problem in err.problems:
+                click.echo(f"error: {problem}", err=True)
+            continue
+        recorded += [(case.id, r) for r in integrity.check_recorded_reviews(case.reviews, record.digest)]
+
     if results:
         for line in format_table(results):
             click.echo(line)
@@ -174,9 +192,17 @@ def verify(cases_dir: Path) -> None:
     counts = {s: sum(1 for _, r in results if r.status == s)
               for s in ("valid", "changed-since-signed", "untrusted-key", "invalid")}
     click.echo(f"{len(results)} signatures: " + ", ".join(f"{n} {s}" for s, n in counts.items()) + ".")
+    changed = [(cid, r) for cid, r in recorded if r.status == "changed since reviewed"]
+    if recorded:
+        click.echo("")
+        click.echo("Verdicts recorded in the case files:")
+        for cid, r in recorded:
+            click.echo(f"  {cid}: {r.verdict} by {r.name} ({r.role}) on {r.date}: {r.status}")
+        click.echo(f"{len(recorded)} recorded verdicts: {len(changed)} changed since reviewed.")
     if bad_input:
         sys.exit(EXIT_BAD_INPUT)
-    sys.exit(EXIT_OK if counts["valid"] == len(results) else EXIT_CHECK_FAILED)
+    ok = counts["valid"] == len(results) and not changed
+    sys.exit(EXIT_OK if ok else EXIT_CHECK_FAILED)
 
 
 #: The commands of this module, for ``main.add_command``.

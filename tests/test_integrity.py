@@ -254,3 +254,85 @@ def test_integrity_record_is_a_frozen_dataclass():
     assert record.short == "d"
     with pytest.raises(AttributeError):
         record.tool_version = "x"
+
+
+# --------------------------------------------------------------------------
+# Verdicts recorded in the case file
+
+from dossier.integrity import check_recorded_reviews, digest_for_case, without_review_tables  # noqa: E402
+
+_REVIEWED = b'''+++
+title = "Neutralisation"
+revision = 2
+status = "accepted"
+reaction = "H+(aq) + OH-(aq) -> H2O(l)"
+temperature = ["20 degC", "40 degC"]
+
+[[review]]
+name = "A. Reviewer"
+role = "process safety"
+date = 2026-11-20
+verdict = "accepted"
+digest = "%s"
++++
+
+Narrative.
+'''
+
+
+def _write(tmp_path, digest: str = "not yet known", body: bytes = _REVIEWED):
+    p = tmp_path / "neut.md"
+    p.write_bytes(body.replace(b"%s", digest.encode()))
+    return p
+
+
+def test_review_tables_do_not_enter_the_digest(tmp_path):
+    with_review = _REVIEWED.replace(b"%s", b"abc")
+    without = without_review_tables(with_review)
+    assert b"[[review]]" not in without and b"A. Reviewer" not in without
+    assert b'temperature = ["20 degC", "40 degC"]' in without and without.endswith(b"Narrative.\n")
+    # A second, different verdict leaves the digest alone ...
+    more = with_review.replace(b"+++\n\nNarrative", b'[[review]]\nname = "B"\nrole = "x"\n'
+                               b'date = 2026-11-21\nverdict = "declined"\n+++\n\nNarrative')
+    assert without_review_tables(more) == without
+    # ... but any other edit changes it.
+    edited = with_review.replace(b"40 degC", b"45 degC")
+    assert without_review_tables(edited) != without
+
+
+def test_recorded_verdict_matches_then_flags_a_change(tmp_path):
+    record, _, _ = digest_for_case(_write(tmp_path))
+    path = _write(tmp_path, record.digest)
+    from dossier.casefile import load_case
+
+    case = load_case(path)
+    again, _, _ = digest_for_case(path)
+    assert again.digest == record.digest  # recording the digest did not change it
+    assert [r.status for r in check_recorded_reviews(case.reviews, again.digest)] == ["matches"]
+    # the short form printed on pages is accepted too
+    short = record.short
+    assert [r.status for r in check_recorded_reviews(
+        load_case(_write(tmp_path, short)).reviews, again.digest)] == ["matches"]
+    # Edit the window: the verdict no longer covers the case.
+    path.write_bytes(path.read_bytes().replace(b"40 degC", b"45 degC"))
+    changed, _, _ = digest_for_case(path)
+    status = check_recorded_reviews(load_case(path).reviews, changed.digest)[0]
+    assert status.status == "changed since reviewed"
+    assert status.explanation.startswith(f"the verdict names digest {record.short}")
+
+
+def test_verify_exits_1_when_a_recorded_verdict_no_longer_matches(tmp_path):
+    from click.testing import CliRunner
+
+    from dossier.cli import main
+
+    record, _, _ = digest_for_case(_write(tmp_path))
+    path = _write(tmp_path, record.digest)
+    runner = CliRunner()
+    ok = runner.invoke(main, ["verify", str(tmp_path)])
+    assert ok.exit_code == 0, ok.output
+    assert "neut: accepted by A. Reviewer (process safety) on 2026-11-20: matches" in ok.output
+    path.write_bytes(path.read_bytes().replace(b"Narrative.", b"Narrative, edited."))
+    bad = runner.invoke(main, ["verify", str(tmp_path)])
+    assert bad.exit_code == 1
+    assert "1 recorded verdicts: 1 changed since reviewed." in bad.output
