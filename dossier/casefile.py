@@ -801,6 +801,15 @@ def _build(top: dict[str, Any], parts: _Parts, filename: str,
 # --------------------------------------------------------------------------
 
 
+def read_header(text: str, filename: str) -> dict[str, Any]:
+    """The header's values as TOML gives them, unvalidated (e.g. "5 bar").
+
+    For showing people what changed between two revisions of a case; the
+    validated case comes from :func:`parse_case_text`.
+    """
+    return _parse_toml(_split(text, filename), filename)
+
+
 def parse_case_text(text: str, filename: str) -> Case:
     """Parse the text of a case file; ``filename`` names it in messages.
 

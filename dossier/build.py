@@ -1,0 +1,333 @@
+"""`dossier build`: assess every case, then render and publish the site.
+
+Two phases, one direction:
+
+1. **assess** (:func:`assess_file`): each case file on its own is loaded,
+   assessed and given its integrity record.  A case that fails is kept as a
+   :class:`CaseFailure` with its file, line and key; the others go on.
+2. **render** (:func:`render_site`): figures, pages, data exports and PDF
+   packets for the cases that were assessed, as one mapping of site path →
+   bytes.  Nothing is written in this phase.
+
+Only then does :func:`dossier.writer.write_site` write the whole site at once
+(temporary folder, then a swap).  With ``strict=True`` a single failed case
+stops the build before anything is written.
+"""
+from __future__ import annotations
+
+import json
+import traceback
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TYPE_CHECKING, Sequence
+
+from .errors import CaseError, DossierError, Problem
+
+if TYPE_CHECKING:  # pragma: no cover
+    from .assess import Assessment
+    from .case import Case
+    from .integrity import IntegrityRecord
+    from .site import CaseView
+    from .species import Library, SpeciesRecord
+    from .thermo import ReactionThermo
+
+NOT_COMPUTED = "integrity record: not yet computed"
+
+
+# --------------------------------------------------------------------------
+# Phase 1: assess
+
+@dataclass(frozen=True)
+class CaseFailure:
+    """A case file that could not be assessed, with its located problems."""
+
+    file: str
+    problems: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class AssessedCase:
+    """A case with everything computed about it (phase 1 output)."""
+
+    path: Path
+    case: "Case"
+    assessment: "Assessment"
+    records: tuple["SpeciesRecord", ...]  # one per assessment.species
+    thermo: "ReactionThermo"
+    integrity: "IntegrityRecord | None"
+    integrity_note: str
+
+
+def reaction_thermo(case: "Case", assessment: "Assessment", library: "Library"
+                    ) -> tuple["ReactionThermo", tuple["SpeciesRecord", ...]]:
+    """The engine's ReactionThermo and the records of an assessed case.
+
+    Rebuilt from the assessment's species uses (record ids and coefficients)
+    and the library extended with the case's own records, as assess_case does.
+    """
+    from .assess import local_record
+    from .thermo import ReactionThermo
+
+    lib = library.with_records([local_record(sp, case.window) for sp in case.species]) \
+        if case.species else library
+    records = tuple(lib.get(u.record_id) for u in assessment.species)
+    thermo = ReactionThermo(tuple(u.nu for u in assessment.species),
+                            tuple(r.model for r in records))
+    return thermo, records
+
+
+def _integrity(path: Path) -> tuple["IntegrityRecord | None", str]:
+    try:
+        from .integrity import digest_for_case
+    except ImportError:  # pragma: no cover - module absent in a partial install
+        return None, NOT_COMPUTED
+    try:
+        record, _rev, _id = digest_for_case(path)
+    except DossierError as err:
+        return None, f"{NOT_COMPUTED} ({'; '.join(p.message for p in err.problems)})"
+    return record, ""
+
+
+def assess_file(path: Path, library: "Library") -> AssessedCase | CaseFailure:
+    """Load and assess one case file; never raises for a bad case."""
+    from .assess import assess_case
+    from .casefile import load_case
+
+    try:
+        case = load_case(path)
+        assessment = assess_case(case, library)
+        thermo, records = reaction_thermo(case, assessment, library)
+    except DossierError as err:
+        located = err.located(str(path))
+        return CaseFailure(str(path), tuple(str(p) for p in located.problems))
+    except Exception as exc:  # a defect in dossier, not in the case: isolate it too
+        where = traceback.extract_tb(exc.__traceback__)[-1]
+        return CaseFailure(str(path), (
+            f"{path}: internal error while assessing this case ({type(exc).__name__}: {exc}; "
+            f"at {Path(where.filename).name}:{where.lineno}); please report it",))
+    integrity, note = _integrity(path)
+    return AssessedCase(path, case, assessment, records, thermo, integrity, note)
+
+
+# --------------------------------------------------------------------------
+# Phase 2: render (pure: returns the files)
+
+@dataclass(frozen=True)
+class RenderedSite:
+    files: dict[str, bytes]
+    packets: tuple[str, ...]
+    problems: tuple[str, ...]  # e.g. a packet that asked for a missing file
+
+
+def _derivation(a: AssessedCase, slug: str):
+    from .derivation import derive
+    from .site import derivation_view
+    from .thermo import T_REF
+    import numpy as np
+
+    lo, hi = a.assessment.thermo.window_K
+    t_low, t_high = min(T_REF, lo), max(T_REF, hi)
+    try:
+        d = derive(a.thermo, t_low, t_high)
+    except Exception as exc:  # the page says why instead of failing the build
+        return None, f"{type(exc).__name__}: {exc}"
+    temps = sorted({t_low, lo, 0.5 * (lo + hi), hi, t_high})
+    checks = tuple((T, float(d.dG(np.array([T]))[0]) / 1e3,
+                    float(a.thermo.dG(np.array([T]))[0]) / 1e3) for T in temps)
+    forms = tuple((u.key, u.model) for u in a.assessment.species)
+    return derivation_view(d.segments, slug, t_low, t_high, checks, forms), ""
+
+
+def _case_json(a: AssessedCase) -> bytes:
+    data = a.assessment.to_dict()
+    data["integrity"] = a.integrity.to_dict() if a.integrity else None
+    data["source_file"] = a.path.name
+    return (json.dumps(data, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
+
+
+def case_view(a: AssessedCase, slug: str, species_slugs: Sequence[str]) -> "CaseView":
+    """The plain data a dossier page is rendered from (figures drawn here)."""
+    from .figures import case_figures
+    from .site import CaseView
+
+    derivation, note = _derivation(a, slug)
+    c = a.case
+    return CaseView(
+        slug=slug, source_name=a.path.name, assessment=a.assessment, reviews=c.reviews,
+        narrative=c.narrative, inerts=c.inerts, charge=c.charge, vessel=c.vessel,
+        decomposition=c.decomposition, measured=c.measured,
+        species_slugs=tuple(species_slugs), figures=case_figures(a.thermo, a.assessment),
+        derivation=derivation, derivation_note=note, integrity=a.integrity,
+        integrity_note=a.integrity_note or NOT_COMPUTED)
+
+
+def _species_key(a: AssessedCase, i: int) -> tuple[str, ...]:
+    use = a.assessment.species[i]
+    return ("local", a.case.id, use.record_id) if use.local else ("library", use.record_id)
+
+
+def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure] = (),
+                meeting: str | None = None, packets: bool = True) -> RenderedSite:
+    """Every file of the site, as site path → bytes."""
+    from . import site
+    from .figures import formula_svg, species_figure
+    from .packets import PdfAttachment, render_pdf
+
+    files: dict[str, bytes] = {}
+    problems: list[str] = []
+    files["style.css"] = site.template_text("site.css").encode("utf-8")
+    files["packet.css"] = site.template_text("packet.css").encode("utf-8")
+    for tex, path in site.kirchhoff_assets():
+        files[path] = formula_svg(tex).encode("utf-8")
+
+    # slugs: cases, then species (library records by id, case-local ones per case)
+    case_slug = site.case_slugs([a.case.id for a in assessed])
+    species_keys: dict[tuple, tuple[str, "SpeciesRecord"]] = {}
+    for a in assessed:
+        for i, rec in enumerate(a.records):
+            key = _species_key(a, i)
+            text = f"local {case_slug[a.case.id]} {rec.id}" if key[0] == "local" else rec.id
+            species_keys.setdefault(key, (text, rec))
+    sp_slug = site.unique_slugs([(k, text) for k, (text, _r) in species_keys.items()])
+
+    views = []
+    for a in assessed:
+        slug = case_slug[a.case.id]
+        v = case_view(a, slug, [sp_slug[_species_key(a, i)] for i in range(len(a.records))])
+        views.append(v)
+        files[f"cases/{slug}.html"] = site.render_case_page(v).encode("utf-8")
+        files[f"cases/{slug}-derivation.html"] = site.render_derivation_page(v).encode("utf-8")
+        files[f"cases/{slug}.json"] = _case_json(a)
+        for f in v.figures:
+            files[f"figures/cases/{slug}/{f.name}.svg"] = f.svg.encode("utf-8")
+        for path, tex in site.print_assets(v):
+            if path not in files:
+                files[path] = formula_svg(tex).encode("utf-8")
+
+    # species pages
+    used_by: dict[tuple, list[tuple[str, str, str]]] = {}
+    for a, v in zip(assessed, views):
+        for i, use in enumerate(a.assessment.species):
+            used_by.setdefault(_species_key(a, i), []).append((v.slug, a.case.id, use.key))
+    for key, (text, rec) in species_keys.items():
+        slug = sp_slug[key]
+        fig = species_figure(rec)
+        sv = site.SpeciesView(slug=slug, record=rec,
+                              local_to=case_slug[key[1]] if key[0] == "local" else None,
+                              figure=fig, used_by=tuple(used_by.get(key, ())))
+        files[f"species/{slug}.html"] = site.render_species_page(sv).encode("utf-8")
+        files[f"figures/species/{slug}/{fig.name}.svg"] = fig.svg.encode("utf-8")
+
+    # meetings
+    by_date: dict[str, list] = {}
+    for v in views:
+        if v.assessment.meeting:
+            by_date.setdefault(v.assessment.meeting, []).append(v)
+    if meeting is not None and meeting not in by_date:
+        problems.append(f"no case names the meeting {meeting}; known meetings: "
+                        f"{', '.join(sorted(by_date)) or 'none'}")
+    meetings = tuple(site.MeetingView(date=d, slug=f"meeting-{site.slugify(d)}",
+                                      cases=tuple(sorted(by_date[d], key=lambda v: v.id)))
+                     for d in sorted(by_date) if meeting is None or d == meeting)
+
+    failed = tuple(site.FailedCase(f.file, f.problems) for f in failures)
+    files["index.html"] = site.render_register(views, failed, meetings).encode("utf-8")
+    files["methods.html"] = site.render_methods_page().encode("utf-8")
+
+    made: list[str] = []
+    if packets:
+        for a, v in zip(assessed, views):
+            path = f"packets/{v.slug}.pdf"
+            att = PdfAttachment(f"{v.slug}-assessment.json", files[f"cases/{v.slug}.json"],
+                                f"Assessment of case {v.id}, revision {a.assessment.revision} "
+                                "(JSON, the numbers this packet shows)")
+            res = render_pdf(site.render_case_packet(v), f"packets/{v.slug}.html", files, [att])
+            problems.extend(f"{path}: asked for {u}" for u in res.refused)
+            files[path] = res.pdf
+            made.append(path)
+        for m in meetings:
+            path = f"packets/{m.slug}.pdf"
+            atts = [PdfAttachment(f"{c.slug}-assessment.json", files[f"cases/{c.slug}.json"],
+                                  f"Assessment of case {c.id}") for c in m.cases]
+            res = render_pdf(site.render_meeting_packet(m), f"packets/{m.slug}.html", files, atts)
+            problems.extend(f"{path}: asked for {u}" for u in res.refused)
+            files[path] = res.pdf
+            made.append(path)
+    return RenderedSite(files, tuple(made), tuple(problems))
+
+
+# --------------------------------------------------------------------------
+# The command
+
+@dataclass(frozen=True)
+class BuildReport:
+    cases_dir: Path
+    out_dir: Path
+    built: tuple[str, ...]
+    failed: tuple[CaseFailure, ...]
+    written: bool
+    strict: bool
+    files: int = 0
+    packets: tuple[str, ...] = ()
+    notes: tuple[str, ...] = field(default=())
+
+    def lines(self) -> list[str]:
+        out = []
+        for f in self.failed:
+            out.extend(f"error: {p}" for p in f.problems)
+        out.extend(f"note: {n}" for n in self.notes)
+        total = len(self.built) + len(self.failed)
+        if not self.written:
+            out.append(f"strict build: nothing written to {self.out_dir}; {len(self.failed)} of "
+                       f"{total} case files have errors")
+        else:
+            bad = f"; {len(self.failed)} failed (see the errors above)" if self.failed else ""
+            out.append(f"built {len(self.built)} of {total} cases into {self.out_dir}{bad}: "
+                       f"{self.files} files, {len(self.packets)} PDF packets")
+        return out
+
+
+def case_files(cases_dir: Path) -> list[Path]:
+    cases_dir = Path(cases_dir)
+    if not cases_dir.is_dir():
+        raise CaseError(Problem("the cases folder does not exist (give the folder that holds "
+                                "the case files, e.g. 'cases')", str(cases_dir)))
+    return sorted(p for p in cases_dir.glob("*.md") if p.is_file())
+
+
+def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
+               meeting: str | None = None, jobs: int = 1, packets: bool = True) -> BuildReport:
+    """Assess every case in ``cases_dir`` and publish the site into ``out_dir``.
+
+    ``meeting`` limits the meeting packets to that date (YYYY-MM-DD).
+    ``jobs`` is accepted for parallel builds; cases are processed one after
+    the other for now.  ``packets=False`` leaves the PDF packets out.
+    """
+    from .species import Library
+    from .writer import check_target, write_site
+
+    if jobs < 1:
+        raise DossierError(Problem(f"--jobs must be 1 or more, got {jobs}", key="--jobs"))
+    cases_dir, out_dir = Path(cases_dir), Path(out_dir)
+    paths = case_files(cases_dir)
+    check_target(out_dir, protected=[cases_dir])  # refuse early, before any work
+
+    library = Library.default()
+    assessed: list[AssessedCase] = []
+    failures: list[CaseFailure] = []
+    for p in paths:
+        r = assess_file(p, library)
+        (failures if isinstance(r, CaseFailure) else assessed).append(r)
+
+    built = tuple(a.case.id for a in assessed)
+    if strict and failures:
+        return BuildReport(cases_dir, out_dir, built, tuple(failures), written=False, strict=True)
+
+    rendered = render_site(assessed, failures, meeting=meeting, packets=packets)
+    result = write_site(out_dir, rendered.files, protected=[cases_dir])
+    return BuildReport(cases_dir, out_dir, built, tuple(failures), written=True, strict=strict,
+                       files=result.files, packets=rendered.packets, notes=rendered.problems)
+
+
+__all__ = ["AssessedCase", "BuildReport", "CaseFailure", "assess_file", "build_site",
+           "case_view", "reaction_thermo", "render_site"]
