@@ -135,6 +135,19 @@ def species(query: str, limit: int) -> None:
         click.echo(f"... and {len(hits) - limit} more; use --limit to see them.")
 
 
+@main.command(name="new")
+@click.argument("case_id")
+@click.option("--reaction", default=None, help='The reaction, e.g. "CH4(g) + 2 O2(g) -> CO2(g) + 2 H2O(g)".')
+@click.option("--cases", "cases_dir", default="cases", show_default=True,
+              type=click.Path(file_okay=False, path_type=Path), help="The cases folder.")
+def new_case(case_id: str, reaction: str | None, cases_dir: Path) -> None:
+    """Write a new case file from the template, every key explained."""
+    from .newcase import write_new_case
+
+    path = write_new_case(cases_dir, case_id, reaction)
+    click.echo(f"wrote {path}; fill it in, then run: dossier check {path}")
+
+
 @main.command()
 @click.argument("cases_dir", default="cases", type=click.Path(file_okay=False, path_type=Path))
 @click.option("--out", "out_dir", default="site", show_default=True,

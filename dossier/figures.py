@@ -34,7 +34,7 @@ PALE = "#e6ecf0"
 
 STYLE = {
     "svg.hashsalt": "dossier-figures-1",
-    "svg.fonttype": "path",
+    "svg.fonttype": "none",
     "font.family": "DejaVu Sans",
     "font.size": 9.0,
     "axes.edgecolor": GREY,
@@ -72,10 +72,14 @@ class Figure:
     svg: str
 
 
-def _new_figure(width: float = 6.4, height: float = 3.4):
+def _new_figure(width: float = 6.4, height: float = 3.4, top_axis: bool = True):
+    """A figure with fixed margins (faster and steadier than automatic layout)."""
     from matplotlib.figure import Figure as MplFigure
 
-    return MplFigure(figsize=(width, height), layout="constrained")
+    fig = MplFigure(figsize=(width, height))
+    fig.subplots_adjust(left=0.72 / width, right=1 - 0.18 / width, bottom=0.5 / height,
+                        top=1 - (0.55 if top_axis else 0.3) / height)
+    return fig
 
 
 def _svg(fig) -> str:
@@ -139,10 +143,10 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
         gin = np.where(inside, G, np.nan)
         # the dashed part includes the data-range ends, so it joins the solid line
         gout = np.where((T <= d_lo) | (T >= d_hi), G, np.nan)
-        ax.plot(T, gin, color=BLUE, label="ΔrG° (within the data range)")
+        ax.plot(T, gin, color=BLUE, label=r"$\Delta_\mathrm{r}G^\circ$ within the data range")
         if np.any(~inside):
             ax.plot(T, gout, color=BLUE, linestyle=(0, (4, 3)),
-                    label="ΔrG° (extrapolated beyond the data)")
+                    label=r"$\Delta_\mathrm{r}G^\circ$ extrapolated beyond the data")
         for c in shown:
             ax.plot([c.T], [0.0], marker="o", markersize=6, markerfacecolor="white",
                     markeredgecolor=INK, zorder=3)
@@ -150,7 +154,7 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
                         xytext=(4, 8), color=INK)
         ax.set_xlim(a, b)
         ax.set_xlabel("T / K")
-        ax.set_ylabel("ΔrG° / kJ mol⁻¹")
+        ax.set_ylabel(r"$\Delta_\mathrm{r}G^\circ$ / kJ mol$^{-1}$")
         _celsius_axis(ax)
         ax.legend(loc="best")
         return _svg(fig)
@@ -172,17 +176,17 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
             note.append("crossover")
         rows.append((f"{t:.2f}", f"{t - T0:.2f}", _f(g, 3), ", ".join(note)))
     if shown:
-        cross = "; ".join(f"ΔrG° = 0 at {c.T:.1f} K ({c.T - T0:.1f} °C), {c.direction}"
+        cross = "; ".join(f"ΔG° = 0 at {c.T:.1f} K ({c.T - T0:.1f} °C), {c.direction}"
                           for c in shown)
     else:
-        cross = "ΔrG° does not change sign in the range shown"
+        cross = "ΔG° does not change sign in the range shown"
     caption = (f"Standard Gibbs energy of reaction against temperature, {a:.0f}–{b:.0f} K. "
                f"The shaded band is the operating window; the solid line lies within the "
                f"species data ({d_lo:.0f}–{d_hi:.0f} K), the dashed line is extrapolated. "
                f"{cross}.")
-    return Figure("gibbs", "ΔrG° against temperature", caption,
-                  f"Line plot of ΔrG° from {a:.0f} to {b:.0f} K. {cross}.",
-                  ("T / K", "t / °C", "ΔrG° / kJ mol⁻¹", "note"), tuple(rows), svg)
+    return Figure("gibbs", "ΔG° against temperature", caption,
+                  f"Line plot of ΔG° from {a:.0f} to {b:.0f} K. {cross}.",
+                  ("T / K", "t / °C", "ΔG° / kJ mol⁻¹", "note"), tuple(rows), svg)
 
 
 def _nice_step(raw: float) -> float:
@@ -211,7 +215,7 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
         ax.set_ylim(-3, 103)
         ax.set_xlim(T.min(), T.max()) if T.max() > T.min() else None
         ax.set_xlabel("T / K")
-        ax.set_ylabel(f"equilibrium conversion / %")
+        ax.set_ylabel("equilibrium conversion / %")
         _celsius_axis(ax)
         return _svg(fig)
 
@@ -242,13 +246,13 @@ def entropy_figure(profile: Sequence["ProfileRow"]) -> Figure:
         fig = _new_figure(6.4, 3.2)
         ax = fig.add_subplot()
         ax.axhline(0.0, color=GREY, linewidth=0.9)
-        ax.plot(T, sys_, color=INK, linestyle=(0, (1.5, 2)), label="ΔrS° (system)")
-        ax.plot(T, surr, color=GREY, linestyle=(0, (5, 2.5)), label="ΔS_surr = −ΔrH°/T")
-        ax.plot(T, univ, color=BLUE, linewidth=2.2, label="ΔS_univ = ΔrS° + ΔS_surr")
+        ax.plot(T, sys_, color=INK, linestyle=(0, (1.5, 2)), label=r"$\Delta_\mathrm{r}S^\circ$ (system)")
+        ax.plot(T, surr, color=GREY, linestyle=(0, (5, 2.5)), label=r"$\Delta S_\mathrm{surr} = -\Delta_\mathrm{r}H^\circ/T$ (surroundings)")
+        ax.plot(T, univ, color=BLUE, linewidth=2.2, label=r"$\Delta S_\mathrm{univ} = \Delta_\mathrm{r}S^\circ + \Delta S_\mathrm{surr}$ (universe)")
         if T.max() > T.min():
             ax.set_xlim(T.min(), T.max())
         ax.set_xlabel("T / K")
-        ax.set_ylabel("entropy change / J mol⁻¹ K⁻¹")
+        ax.set_ylabel(r"entropy change / J mol$^{-1}$ K$^{-1}$")
         _celsius_axis(ax)
         ax.legend(loc="best")
         return _svg(fig)
@@ -259,12 +263,13 @@ def entropy_figure(profile: Sequence["ProfileRow"]) -> Figure:
     sign = ("positive throughout" if np.all(univ > 0) else
             "negative throughout" if np.all(univ < 0) else "changing sign")
     caption = ("Entropy balance per mole of reaction across the operating window: the system "
-               "(ΔrS°), the surroundings that receive the heat at constant temperature and "
-               f"pressure (ΔS_surr = −ΔrH°/T) and their sum (ΔS_univ = −ΔrG°/T), {sign}.")
+               "(ΔS°), the surroundings that receive the heat at constant temperature and "
+               "pressure (−ΔH°/T) and the universe, their sum (equal to −ΔG°/T), which is "
+               f"{sign}.")
     return Figure("entropy", "Entropy of system, surroundings and universe", caption,
-                  f"Three lines: ΔrS°, ΔS_surr and ΔS_univ against temperature; ΔS_univ is {sign}.",
-                  ("T / K", "ΔrS° / J mol⁻¹ K⁻¹", "ΔS_surr / J mol⁻¹ K⁻¹",
-                   "ΔS_univ / J mol⁻¹ K⁻¹"), rows, svg)
+                  f"Three lines against temperature: entropy change of the system, of the surroundings and of the universe; the universe's is {sign}.",
+                  ("T / K", "ΔS° system / J mol⁻¹ K⁻¹", "ΔS surroundings / J mol⁻¹ K⁻¹",
+                   "ΔS universe / J mol⁻¹ K⁻¹"), rows, svg)
 
 
 # --------------------------------------------------------------------------
@@ -288,6 +293,10 @@ def ladder_levels(safety: "Safety") -> tuple[tuple[str, float, str], ...]:
     return tuple(sorted(levels, key=lambda x: x[1]))
 
 
+LADDER_TEX = {"T_p": r"$T_\mathrm{p}$", "T_end": r"$T_\mathrm{end}$"}
+LADDER_TEXT = {"T_p": "Tₚ", "T_end": "T end"}
+
+
 def ladder_figure(safety: "Safety") -> Figure | None:
     """The scenario's temperatures on one scale, or None when fewer than two are known."""
     levels = ladder_levels(safety)
@@ -297,7 +306,7 @@ def ladder_figure(safety: "Safety") -> Figure | None:
     values = dict((k, v) for k, v, _ in levels)
 
     def draw():
-        fig = _new_figure(6.4, 3.8)
+        fig = _new_figure(6.4, 3.8, top_axis=False)
         ax = fig.add_subplot()
         ax.grid(False)
         ax.spines["bottom"].set_visible(False)
@@ -307,37 +316,38 @@ def ladder_figure(safety: "Safety") -> Figure | None:
         ax.set_ylim(min(ts) - pad, max(ts) + pad)
         ax.set_xlim(0, 10)
         placed: list[float] = []
-        min_gap = 0.055 * (max(ts) - min(ts) + 2 * pad)
+        min_gap = 0.06 * (max(ts) - min(ts) + 2 * pad)
         for label, t, meaning in levels:
             strong = label in ("MTSR", "TD24")
-            ax.hlines(t, 0.4, 4.2, color=BLUE if strong else INK,
+            ax.hlines(t, 2.4, 5.6, color=BLUE if strong else INK,
                       linewidth=2.2 if strong else 1.2)
             y = t
             if placed and y - placed[-1] < min_gap:
                 y = placed[-1] + min_gap
             placed.append(y)
-            ax.annotate(f"{label}  {t:.1f} K ({t - T0:.1f} °C)", (4.2, t), xytext=(4.6, y),
-                        textcoords="data", va="center", color=INK,
+            ax.annotate(f"{LADDER_TEX.get(label, label)}  {t:.1f} K ({t - T0:.1f} °C)", (5.6, t),
+                        xytext=(6.0, y), textcoords="data", va="center", color=INK,
                         arrowprops=dict(arrowstyle="-", color=GREY, linewidth=0.6))
         if "T_p" in values and "MTSR" in values:
-            ax.annotate("", xy=(1.2, values["MTSR"]), xytext=(1.2, values["T_p"]),
+            ax.annotate("", xy=(1.0, values["MTSR"]), xytext=(1.0, values["T_p"]),
                         arrowprops=dict(arrowstyle="->", color=INK, linewidth=1.0))
-            ax.text(1.35, (values["T_p"] + values["MTSR"]) / 2, "synthesis\nreaction",
-                    va="center", color=GREY, fontsize=8)
+            ax.text(0.75, (values["T_p"] + values["MTSR"]) / 2, "synthesis", va="center",
+                    ha="right", color=GREY, fontsize=8, rotation=90)
         if "MTSR" in values and "T_end" in values:
-            ax.annotate("", xy=(3.0, values["T_end"]), xytext=(3.0, values["MTSR"]),
+            ax.annotate("", xy=(1.9, values["T_end"]), xytext=(1.9, values["MTSR"]),
                         arrowprops=dict(arrowstyle="->", color=INK, linewidth=1.0,
                                         linestyle=(0, (3, 2))))
-            ax.text(3.15, (values["MTSR"] + values["T_end"]) / 2, "decomposition",
-                    va="center", color=GREY, fontsize=8, rotation=90)
+            ax.text(1.65, (values["MTSR"] + values["T_end"]) / 2, "decomposition",
+                    va="center", ha="right", color=GREY, fontsize=8, rotation=90)
         ax.set_ylabel("T / K")
         if cls is not None:
             ax.set_title(f"criticality class {cls}", loc="left", color=INK, fontsize=9)
         return _svg(fig)
 
     svg = _draw(draw)
-    rows = tuple((label, f"{t:.2f}", f"{t - T0:.2f}", meaning) for label, t, meaning in levels)
-    order = " < ".join(label for label, _, _ in levels)
+    rows = tuple((LADDER_TEXT.get(label, label), f"{t:.2f}", f"{t - T0:.2f}", meaning)
+                 for label, t, meaning in levels)
+    order = " < ".join(LADDER_TEXT.get(label, label) for label, _, _ in levels)
     cls_text = f"criticality class {cls}" if cls is not None else "criticality class not assessed"
     caption = (f"Temperatures of the cooling-failure scenario on one scale ({order}); "
                f"{cls_text} (Stoessel). The solid arrow is the rise from the accumulated "
@@ -366,11 +376,12 @@ def species_figure(record: "SpeciesRecord") -> Figure:
     h = np.asarray(m.h(T), dtype=float) / 1e3
     s = np.asarray(m.s(T), dtype=float)
     g = h - T * s / 1e3
-    panels = (("Cp° / J mol⁻¹ K⁻¹", cp), ("H° / kJ mol⁻¹", h), ("S° / J mol⁻¹ K⁻¹", s),
-              ("G° = H° − TS° / kJ mol⁻¹", g))
+    panels = ((r"$C_p^\circ$ / J mol$^{-1}$ K$^{-1}$", cp), (r"$H^\circ$ / kJ mol$^{-1}$", h),
+              (r"$S^\circ$ / J mol$^{-1}$ K$^{-1}$", s), (r"$G^\circ = H^\circ - TS^\circ$ / kJ mol$^{-1}$", g))
 
     def draw():
-        fig = _new_figure(6.4, 4.6)
+        fig = _new_figure(6.4, 4.6, top_axis=False)
+        fig.subplots_adjust(left=0.1, right=0.98, wspace=0.32, hspace=0.12, top=0.97)
         axes = fig.subplots(2, 2, sharex=True)
         for ax, (label, y) in zip(axes.flat, panels):
             ax.plot(T, y, color=BLUE)
@@ -405,16 +416,22 @@ def species_figure(record: "SpeciesRecord") -> Figure:
 # formulas for print (weasyprint does not typeset MathML)
 
 def formula_svg(latex: str, fontsize: float = 10.0) -> str:
-    """One line of LaTeX mathematics as SVG (matplotlib mathtext), tightly cropped."""
+    """One line of LaTeX mathematics as SVG (matplotlib mathtext), sized to the formula."""
 
     def draw():
         from matplotlib.figure import Figure as MplFigure
+        from matplotlib.font_manager import FontProperties
+        from matplotlib.mathtext import MathTextParser
 
-        fig = MplFigure(figsize=(0.01, 0.01))
-        fig.text(0, 0, f"${latex}$", fontsize=fontsize, color=INK)
+        text = f"${latex}$"
+        prop = FontProperties(size=fontsize)
+        width, height, depth, *_ = MathTextParser("path").parse(text, dpi=72, prop=prop)
+        pad = 2.0
+        fig = MplFigure(figsize=((width + 2 * pad) / 72, (height + 2 * pad) / 72))
+        fig.text(pad / (width + 2 * pad), (depth + pad) / (height + 2 * pad), text,
+                 fontproperties=prop, color=INK)
         buf = io.StringIO()
-        fig.savefig(buf, format="svg", metadata=SVG_METADATA, bbox_inches="tight",
-                    pad_inches=0.02, transparent=True)
+        fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=True)
         return buf.getvalue()
 
     return _draw(draw)

@@ -350,16 +350,12 @@ def display_latex(latex: str) -> str:
 
 
 def equation_lines(lhs: str, rhs: str, per_line: int = 3) -> tuple[str, ...]:
-    """'lhs = t1 + t2 + t3', '+ t4 + t5', ... : a long closed form as several lines."""
-    terms = _split_terms(display_latex(rhs))
-    lines = []
-    for k in range(0, len(terms), per_line):
-        chunk = terms[k:k + per_line]
-        text = " ".join(chunk if k == 0 else
-                        [chunk[0] if chunk[0].startswith("-") else "+ " + chunk[0], *chunk[1:]])
-        lines.append(text)
-    if not lines:
-        lines = ["0"]
+    """'lhs = t1 + t2 + t3', '+ t4 + t5', ... : a long closed form as several lines.
+
+    The terms keep their own signs, so a continuation line starts with + or −.
+    """
+    terms = _split_terms(display_latex(rhs)) or ["0"]
+    lines = [" ".join(terms[k:k + per_line]) for k in range(0, len(terms), per_line)]
     lines[0] = f"{lhs} = {lines[0]}"
     return tuple(lines)
 
@@ -408,12 +404,12 @@ def derivation_view(segments: Sequence["Segment"], slug: str, t_low: float, t_hi
     for seg in segments:
         eqs = []
         for label, lhs, rhs, u in (
-                ("heat capacity of reaction", r"\Delta_{r} C_{p}^{\circ}(T)", seg.dCp_latex,
+                ("heat capacity of reaction", r"\Delta_{\text{r}} C_{p}^{\circ}(T)", seg.dCp_latex,
                  "J mol⁻¹ K⁻¹"),
-                ("enthalpy of reaction", r"\Delta_{r} H^{\circ}(T)", seg.dH_latex, "J mol⁻¹"),
-                ("entropy of reaction", r"\Delta_{r} S^{\circ}(T)", seg.dS_latex,
+                ("enthalpy of reaction", r"\Delta_{\text{r}} H^{\circ}(T)", seg.dH_latex, "J mol⁻¹"),
+                ("entropy of reaction", r"\Delta_{\text{r}} S^{\circ}(T)", seg.dS_latex,
                  "J mol⁻¹ K⁻¹"),
-                ("Gibbs energy of reaction", r"\Delta_{r} G^{\circ}(T)", seg.dG_latex,
+                ("Gibbs energy of reaction", r"\Delta_{\text{r}} G^{\circ}(T)", seg.dG_latex,
                  "J mol⁻¹")):
             lines = equation_lines(lhs, rhs)
             assets = []
@@ -428,14 +424,34 @@ def derivation_view(segments: Sequence["Segment"], slug: str, t_low: float, t_hi
 
 #: General forms shown before the closed forms (our own formulas, as LaTeX).
 KIRCHHOFF = (
-    r"\Delta_{r} C_{p}^{\circ}(T) = \sum_{i} \nu_{i} C_{p,i}^{\circ}(T)",
-    r"\Delta_{r} H^{\circ}(T) = \Delta_{r} H^{\circ}(T_{a}) + \int_{T_{a}}^{T} "
-    r"\Delta_{r} C_{p}^{\circ}(\tau)\, d\tau",
-    r"\Delta_{r} S^{\circ}(T) = \Delta_{r} S^{\circ}(T_{a}) + \int_{T_{a}}^{T} "
-    r"\frac{\Delta_{r} C_{p}^{\circ}(\tau)}{\tau}\, d\tau",
-    r"\Delta_{r} G^{\circ}(T) = \Delta_{r} H^{\circ}(T) - T \Delta_{r} S^{\circ}(T)",
-    r"\ln K = -\frac{\Delta_{r} G^{\circ}(T)}{R T}",
+    r"\Delta_{\text{r}} C_{p}^{\circ}(T) = \sum_{i} \nu_{i} C_{p,i}^{\circ}(T)",
+    r"\Delta_{\text{r}} H^{\circ}(T) = \Delta_{\text{r}} H^{\circ}(T_{a}) + \int_{T_{a}}^{T} "
+    r"\Delta_{\text{r}} C_{p}^{\circ}(\tau)\, d\tau",
+    r"\Delta_{\text{r}} S^{\circ}(T) = \Delta_{\text{r}} S^{\circ}(T_{a}) + \int_{T_{a}}^{T} "
+    r"\frac{\Delta_{\text{r}} C_{p}^{\circ}(\tau)}{\tau}\, d\tau",
+    r"\Delta_{\text{r}} G^{\circ}(T) = \Delta_{\text{r}} H^{\circ}(T) - T \Delta_{\text{r}} S^{\circ}(T)",
+    r"\ln K = -\frac{\Delta_{\text{r}} G^{\circ}(T)}{R T}",
 )
+
+#: Formulas of the methods page (our own LaTeX), by key.
+METHODS_MATH = {
+    "nasa-cp": r"\frac{C_{p}^{\circ}}{R} = a_{1} + a_{2} T + a_{3} T^{2} + a_{4} T^{3} + a_{5} T^{4}",
+    "nasa-h": r"\frac{H^{\circ}}{R T} = a_{1} + \frac{a_{2} T}{2} + \frac{a_{3} T^{2}}{3} + \frac{a_{4} T^{3}}{4} + \frac{a_{5} T^{4}}{5} + \frac{a_{6}}{T}",
+    "nasa-s": r"\frac{S^{\circ}}{R} = a_{1} \ln T + a_{2} T + \frac{a_{3} T^{2}}{2} + \frac{a_{4} T^{3}}{3} + \frac{a_{5} T^{4}}{4} + a_{7}",
+    "shomate-cp": r"C_{p}^{\circ} = A + B t + C t^{2} + D t^{3} + \frac{E}{t^{2}}",
+    "shomate-h": r"H^{\circ}(T) - H^{\circ}(298.15) = A t + \frac{B t^{2}}{2} + \frac{C t^{3}}{3} + \frac{D t^{4}}{4} - \frac{E}{t} + F - H",
+    "shomate-s": r"S^{\circ} = A \ln t + B t + \frac{C t^{2}}{2} + \frac{D t^{3}}{3} - \frac{E}{2 t^{2}} + G",
+    "constant-cp": r"H^{\circ}(T) = \Delta_{f} H^{\circ} + C_{p} (T - T^{\circ}), \quad S^{\circ}(T) = S^{\circ}(T^{\circ}) + C_{p} \ln \frac{T}{T^{\circ}}",
+    "surroundings": r"q_{\mathrm{surr}} = -\Delta_{\text{r}} H, \quad \Delta S_{\mathrm{surr}} = -\frac{\Delta_{\text{r}} H}{T}",
+    "universe": r"\Delta S_{\mathrm{univ}} = \Delta_{\text{r}} S + \Delta S_{\mathrm{surr}} = -\frac{\Delta_{\text{r}} G}{T}",
+    "heat-flow": r"\Delta S_{\mathrm{total}} = Q \left( \frac{1}{T_{\mathrm{cold}}} - \frac{1}{T_{\mathrm{hot}}} \right) > 0",
+    "heat-rise": r"Q = -\Delta_{\text{r}} H \cdot \frac{n_{\mathrm{basis}}}{|\nu_{\mathrm{basis}}|}, \quad \Delta T_{\mathrm{ad}} = \frac{Q}{m \, c_{p}'}",
+    "mtsr": r"\mathrm{MTSR} = T_{p} + X_{\mathrm{acc}} \, \Delta T_{\mathrm{ad}}",
+    "tmrad": r"\mathrm{TMR}_{\mathrm{ad}}(T) = \frac{c_{p}' R T^{2}}{q'(T) \, E_{a}}, \quad q'(T) = q'_{\mathrm{ref}} \exp\left[ -\frac{E_{a}}{R} \left( \frac{1}{T} - \frac{1}{T_{\mathrm{ref}}} \right) \right]",
+    "cooling": r"\dot{Q}_{\mathrm{mean}} = \frac{Q}{t_{\mathrm{feed}}} \quad \text{against} \quad \dot{Q}_{\mathrm{cool}} = U A \, (T_{p} - T_{\mathrm{coolant}})",
+    "gas": r"n_{\mathrm{gas}} = \xi \sum_{i \in \mathrm{gas}} \nu_{i}, \quad V_{\mathrm{n}} = \frac{n_{\mathrm{gas}} R T_{\mathrm{n}}}{p_{\mathrm{n}}}, \quad p = p_{0} + \frac{n_{\mathrm{gas}} R T}{V}",
+    "oxygen-balance": r"\mathrm{OB} = -\frac{1600 \, (2x + y/2 - z)}{M} \; \%",
+}
 
 
 def kirchhoff_assets() -> tuple[tuple[str, str], ...]:
@@ -548,6 +564,8 @@ def environment():
     """The jinja2 environment (autoescape on, undefined names are errors)."""
     import jinja2
 
+    from .assess import CAUTIONS
+
     root = files("dossier.templates")
     env = jinja2.Environment(loader=jinja2.FileSystemLoader(str(root)), autoescape=True,
                              undefined=jinja2.StrictUndefined, trim_blocks=True,
@@ -560,7 +578,7 @@ def environment():
         crossover_summary=crossover_summary, worst_finding=worst_finding,
         review_record_status=review_record_status, sign_words=sign_words,
         narrative_html=narrative_html, KIRCHHOFF=KIRCHHOFF, kirchhoff_assets=kirchhoff_assets,
-        T0=T0)
+        T0=T0, cautions=CAUTIONS, METHODS_MATH=METHODS_MATH)
     return env
 
 
@@ -624,7 +642,7 @@ def method_sources() -> tuple[tuple[str, str], ...]:
     from . import energetics, rules, safety
 
     out = [
-        ("Severity on ΔT_ad", safety.SEVERITY_SOURCE),
+        ("Severity on the adiabatic temperature rise", safety.SEVERITY_SOURCE),
         ("Probability on TMRad at the MTSR", safety.PROBABILITY_SOURCE),
         ("Criticality classes", safety.CRITICALITY_SOURCE),
         ("TMRad and TD24", safety.TMR_SOURCE),
