@@ -138,10 +138,11 @@ def _derivation(a: AssessedCase, slug: str):
     return derivation_view(d.segments, slug, t_low, t_high, checks, forms), ""
 
 
-def _case_json(a: AssessedCase) -> bytes:
-    data = a.assessment.to_dict()
-    data["integrity"] = a.integrity.to_dict() if a.integrity else None
-    data["source_file"] = a.path.name
+def _view_json(v: "CaseView") -> bytes:
+    """The data export of a case: the assessment, its integrity record and source file."""
+    data = v.assessment.to_dict()
+    data["integrity"] = v.integrity.to_dict() if v.integrity else None
+    data["source_file"] = v.source_name
     return (json.dumps(data, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
 
 
@@ -171,7 +172,7 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
     """Every file of the site, as site path → bytes."""
     from . import site
     from .figures import formula_svg, species_figure
-    from .packets import PdfAttachment, render_pdf
+    from .packets import lay_out, write_pdf
 
     files: dict[str, bytes] = {}
     problems: list[str] = []
@@ -197,7 +198,7 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
         views.append(v)
         files[f"cases/{slug}.html"] = site.render_case_page(v).encode("utf-8")
         files[f"cases/{slug}-derivation.html"] = site.render_derivation_page(v).encode("utf-8")
-        files[f"cases/{slug}.json"] = _case_json(a)
+        files[f"cases/{slug}.json"] = _view_json(v)
         for f in v.figures:
             files[f"figures/cases/{slug}/{f.name}.svg"] = f.svg.encode("utf-8")
         for path, tex in site.print_assets(v):
@@ -236,24 +237,48 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
 
     made: list[str] = []
     if packets:
+        printed: dict[str, object] = {}
         for a, v in zip(assessed, views):
             path = f"packets/{v.slug}.pdf"
-            att = PdfAttachment(f"{v.slug}-assessment.json", files[f"cases/{v.slug}.json"],
-                                f"Assessment of case {v.id}, revision {a.assessment.revision} "
-                                "(JSON, the numbers this packet shows)")
-            res = render_pdf(site.render_case_packet(v), f"packets/{v.slug}.html", files, [att])
-            problems.extend(f"{path}: asked for {u}" for u in res.refused)
-            files[path] = res.pdf
+            p = lay_out(site.render_case_packet(v), f"packets/{v.slug}.html", files)
+            problems.extend(f"{path}: asked for {u}" for u in p.refused)
+            files[path] = write_pdf([p], [_attachment(v)])
+            printed[v.slug] = p
             made.append(path)
         for m in meetings:
             path = f"packets/{m.slug}.pdf"
-            atts = [PdfAttachment(f"{c.slug}-assessment.json", files[f"cases/{c.slug}.json"],
-                                  f"Assessment of case {c.id}") for c in m.cases]
-            res = render_pdf(site.render_meeting_packet(m), f"packets/{m.slug}.html", files, atts)
-            problems.extend(f"{path}: asked for {u}" for u in res.refused)
-            files[path] = res.pdf
+            parts = [printed[c.slug] for c in m.cases]
+            cover = _meeting_cover(m, parts, files)
+            files[path] = write_pdf([cover, *parts], [_attachment(c) for c in m.cases])
             made.append(path)
     return RenderedSite(files, tuple(made), tuple(problems))
+
+
+def _attachment(v: "CaseView"):
+    from .packets import PdfAttachment
+
+    return PdfAttachment(f"{v.slug}-assessment.json", _view_json(v),
+                         f"Assessment of case {v.id}, revision {v.assessment.revision} "
+                         "(JSON: the numbers this packet shows)")
+
+
+def _meeting_cover(m, parts, files):
+    """Lay out the meeting cover and agenda with the page where each case starts."""
+    from . import site
+    from .packets import lay_out
+
+    cover_pages = 1
+    for _ in range(3):  # the agenda's own length decides where the cases start
+        starts, page = [], cover_pages + 1
+        for p in parts:
+            starts.append(page)
+            page += p.page_count
+        cover = lay_out(site.render_meeting_packet(m, tuple(starts)),
+                        f"packets/{m.slug}.html", files)
+        if cover.page_count == cover_pages:
+            return cover
+        cover_pages = cover.page_count
+    return cover
 
 
 # --------------------------------------------------------------------------

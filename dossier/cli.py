@@ -96,9 +96,13 @@ def check(paths: tuple[Path, ...]) -> None:
     from .casefile import load_case
     from .species import Library
 
+    from .revisions import archived_revisions
+
     files: list[Path] = []
     for p in paths:
-        files.extend(sorted(p.glob("*.md")) if p.is_dir() else [p])
+        for f in (sorted(p.glob("*.md")) if p.is_dir() else [p]):
+            files.append(f)
+            files.extend(path for _n, path in archived_revisions(f))
     bad = 0
     for f in files:
         try:

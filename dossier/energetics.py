@@ -447,7 +447,8 @@ def un_screening(
         missing.insert(0, f"explosophore groups ({groups.note})")
         return result("undecided", None,
                       "the screening could not be completed: " + "; ".join(missing) + " missing")
-    found = ", ".join(f"{h.name} ({h.matches})" for h in un_hits)
+    found = ", ".join(f"{h.name} ({h.matches} {'site' if h.matches == 1 else 'sites'})"
+                      for h in un_hits)
     if (b_possible or c_possible) and missing:
         return result("undecided", None,
                       f"groups associated with explosive properties are present ({found}); "

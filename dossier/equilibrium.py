@@ -62,26 +62,31 @@ class EquilibriumSystem:
     inert_gas_per_reaction: float = 0.0  # mol of inert gas per mol of reaction fed
 
     def depends_on_extent(self) -> bool:
-        """True when the reaction quotient changes with the extent."""
-        gases = [s for s in self.species if s.phase == "g"]
-        solutes = [s for s in self.species if s.phase == "aq"]
-        if solutes:
+        """True when the reaction quotient changes with the extent.
+
+        It does not when every species is a pure condensed phase, or when the
+        gases all sit on one side of the equation with no inert gas: they are
+        then made (or used) in a fixed ratio, so their mole fractions never
+        change (e.g. CaCO3(s) -> CaO(s) + CO2(g), or
+        2 NaHCO3(s) -> Na2CO3(s) + H2O(g) + CO2(g)).
+        """
+        if any(s.phase == "aq" for s in self.species):
             return True
+        gases = [s for s in self.species if s.phase == "g"]
         if not gases:
             return False
-        if len(gases) == 1 and self.inert_gas_per_reaction == 0.0:
-            # One pure gas: its mole fraction is 1 whatever the extent
-            # (e.g. CaCO3(s) -> CaO(s) + CO2(g)).
-            return False
-        return True
+        if self.inert_gas_per_reaction > 0.0:
+            return True
+        one_side = all(s.nu > 0 for s in gases) or all(s.nu < 0 for s in gases)
+        return not one_side
 
     def ln_q_fixed(self) -> float:
-        """ln Q when it does not depend on the extent."""
-        total = 0.0
-        for s in self.species:
-            if s.phase == "g":
-                total += s.nu * math.log(self.pressure / P_STANDARD)
-        return total
+        """ln Q when it does not depend on the extent (gas mole fractions fixed
+        by the stoichiometry)."""
+        gases = [s for s in self.species if s.phase == "g"]
+        total_nu = sum(abs(s.nu) for s in gases)
+        ln_p = math.log(self.pressure / P_STANDARD)
+        return sum(s.nu * (math.log(abs(s.nu) / total_nu) + ln_p) for s in gases)
 
     def ln_q(self, u: float) -> float:
         """ln Q at the extent ξ = expit(u)."""
@@ -119,8 +124,9 @@ class EquilibriumSystem:
                        "gives all or nothing; a real liquid mixture stops at an intermediate "
                        "equilibrium that needs activity data")
             else:
-                why = ("the reaction quotient is fixed by the pressure (one gas, pure "
-                       "condensed partners), so the answer is all or nothing")
+                why = ("the gases are all on one side of the equation and form (or are used) "
+                       "in a fixed ratio, so the reaction quotient is fixed by the pressure and "
+                       "the answer is all or nothing")
             if lnK > lnq:
                 return EquilibriumResult(T, lnK, 1.0, "all-or-nothing", why)
             return EquilibriumResult(T, lnK, 0.0, "all-or-nothing", why)

@@ -154,6 +154,7 @@ KEY_HELP: dict[str, str] = {
                      "(see docs/signatures.md).",
 }
 
+
 def check_case_id(case_id: str) -> str:
     """``case_id`` if it is a safe case id, else :class:`DossierError`.
 

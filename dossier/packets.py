@@ -101,36 +101,64 @@ class PdfAttachment:
 
 
 @dataclass(frozen=True)
-class PdfResult:
-    pdf: bytes
+class Printed:
+    """A laid-out packet (a weasyprint Document) and what it fetched."""
+
+    document: object  # weasyprint.document.Document
     served: tuple[str, ...]  # site paths the packet used
     refused: tuple[str, ...]  # URLs the packet asked for and did not get
+
+    @property
+    def page_count(self) -> int:
+        return len(self.document.pages)
+
+
+@dataclass(frozen=True)
+class PdfResult:
+    pdf: bytes
+    served: tuple[str, ...]
+    refused: tuple[str, ...]
+
+
+def lay_out(html_text: str, page_path: str, files: Mapping[str, bytes],
+            variant: str | None = PDF_VARIANT) -> Printed:
+    """Lay out ``html_text`` as if it were the page at site path ``page_path``."""
+    import logging
+
+    from weasyprint import HTML
+
+    fetcher = site_fetcher(files)
+    log = logging.getLogger("weasyprint")
+    level = log.level
+    log.setLevel(logging.ERROR)  # refused fetches are reported in Printed instead
+    try:
+        doc = HTML(string=html_text, base_url=ROOT_URL + page_path,
+                   url_fetcher=fetcher).render(pdf_variant=variant)
+    finally:
+        log.setLevel(level)
+    return Printed(doc, tuple(fetcher.served), tuple(fetcher.refused))
+
+
+def write_pdf(printed: Sequence[Printed], attachments: Sequence[PdfAttachment] = (),
+              variant: str | None = PDF_VARIANT) -> bytes:
+    """One PDF of the pages of ``printed`` in order (metadata from the first)."""
+    from weasyprint import Attachment
+
+    first = printed[0].document
+    doc = first if len(printed) == 1 else first.copy(
+        [page for p in printed for page in p.document.pages])
+    atts = [Attachment(string=a.data, name=a.name, description=a.description,
+                       url_fetcher=site_fetcher({}), relationship="Data") for a in attachments]
+    return doc.write_pdf(pdf_variant=variant, attachments=atts)
 
 
 def render_pdf(html_text: str, page_path: str, files: Mapping[str, bytes],
                attachments: Sequence[PdfAttachment] = (), variant: str | None = PDF_VARIANT
                ) -> PdfResult:
-    """Print ``html_text`` as if it were the page at site path ``page_path``."""
-    import logging
-
-    from weasyprint import HTML, Attachment
-
-    fetcher = site_fetcher(files)
-    base = ROOT_URL + page_path
-    atts = [Attachment(string=a.data, name=a.name, description=a.description,
-                       url_fetcher=fetcher, relationship="Data") for a in attachments]
-    log = logging.getLogger("weasyprint")
-    level = log.level
-    log.setLevel(logging.ERROR)  # refused fetches are reported in PdfResult instead
-    try:
-        options = {"attachments": atts}
-        if variant:
-            options["pdf_variant"] = variant
-        pdf = HTML(string=html_text, base_url=base, url_fetcher=fetcher).write_pdf(**options)
-    finally:
-        log.setLevel(level)
-    return PdfResult(pdf, tuple(fetcher.served), tuple(fetcher.refused))
+    """Print ``html_text`` (as the page at ``page_path``) to PDF bytes in one step."""
+    p = lay_out(html_text, page_path, files, variant)
+    return PdfResult(write_pdf([p], attachments, variant), p.served, p.refused)
 
 
-__all__ = ["PDF_VARIANT", "PdfAttachment", "PdfResult", "ROOT_URL", "RefusedURL",
-           "render_pdf", "site_fetcher", "site_path"]
+__all__ = ["PDF_VARIANT", "PdfAttachment", "PdfResult", "Printed", "ROOT_URL", "RefusedURL",
+           "lay_out", "render_pdf", "site_fetcher", "site_path", "write_pdf"]

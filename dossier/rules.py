@@ -34,12 +34,20 @@ def unfavourable(subj) -> Iterator[Finding]:
     t = subj.thermo
     if t.favourable == "nowhere":
         lo, hi = t.window_K
-        g = [r.dG_kJ_mol for r in t.profile if lo <= r.T_K <= hi]
+        rows = [r for r in t.profile if lo <= r.T_K <= hi]
+        g = [r.dG_kJ_mol for r in rows]
+        best = max(r.conversion for r in rows)
+        if best >= 0.01:
+            reach = (f"; at the case pressure of {t.pressure_bar:g} bar the equilibrium still "
+                     f"reaches at most {best:.0%} conversion")
+        else:
+            reach = ("; even at the case pressure the equilibrium conversion stays below 1 %, so "
+                     "the reaction does not proceed as written")
         yield Finding("unfavourable-everywhere", "warning",
                       f"ΔG° is positive across the whole window {_C(lo)} to {_C(hi)} "
-                      f"({min(g):.1f} to {max(g):.1f} kJ/mol): at standard state the reaction "
-                      "does not proceed as written; it needs product removal, other conditions "
-                      "or another route.", THERMO_SOURCE)
+                      f"({min(g):.1f} to {max(g):.1f} kJ/mol), so K < 1 throughout{reach}. "
+                      "It needs product removal, other conditions or another route.",
+                      THERMO_SOURCE)
 
 
 @rule("crossover-in-window")
@@ -47,7 +55,7 @@ def crossover_in_window(subj) -> Iterator[Finding]:
     for c in subj.thermo.crossovers_in_window:
         yield Finding("crossover-in-window", "caution",
                       f"ΔG° changes sign inside the window at {_C(c.T)} (the reaction is "
-                      f"{c.direction.replace('favourable', 'favourable')} that temperature): "
+                      f"{c.direction} that temperature): "
                       "feasibility depends on where in the window the process runs.",
                       THERMO_SOURCE)
 
@@ -58,7 +66,7 @@ def equilibrium_limited(subj) -> Iterator[Finding]:
     lo, hi = t.window_K
     rows = [r for r in t.profile if lo <= r.T_K <= hi]
     low = [r for r in rows if r.conversion < EQ_LIMIT]
-    if low and t.favourable != "nowhere":
+    if low:
         worst = min(low, key=lambda r: r.conversion)
         yield Finding("equilibrium-limited", "caution",
                       f"Equilibrium conversion of {t.basis} falls below {EQ_LIMIT:.0%} in the "
@@ -81,7 +89,8 @@ def extrapolated(subj) -> Iterator[Finding]:
 def case_local(subj) -> Iterator[Finding]:
     for s in subj.species:
         if s.local:
-            unc = ", ".join(f"{k} ± {v / 1e3:g} kJ/mol" if k == "hf" else f"{k} ± {v:g}"
+            units = {"hf": (1e3, "kJ/mol"), "s": (1.0, "J/(mol·K)"), "cp": (1.0, "J/(mol·K)")}
+            unc = ", ".join(f"{k} ± {v / units.get(k, (1.0, ''))[0]:g} {units.get(k, (1.0, ''))[1]}".rstrip()
                             for k, v in s.uncertainty)
             yield Finding("case-local-data", "information",
                           f"{s.key} uses the case's own data ({s.source.removeprefix('case-local data: ')})"

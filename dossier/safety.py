@@ -318,7 +318,7 @@ class CriticalityResult:
 
 
 def _fmt_K(T: float) -> str:
-    return f"{T:.1f} K ({T - 273.15:.1f} degC)"
+    return f"{T:.1f} K ({T - 273.15:.1f} °C)"
 
 
 def criticality_class(t_process: float | None, mtsr: float | None,
@@ -442,7 +442,7 @@ def cooling_check(heat_J: float, feed_time_s: float, ua_W_per_K: float,
     """
     q = _finite("heat released", heat_J)
     t = _positive("feed time", feed_time_s)
-    ua = _positive("cooling U*A", ua_W_per_K)
+    ua = _non_negative("cooling U*A", ua_W_per_K)
     tp = _positive("process temperature", t_process)
     tc = _positive("coolant temperature", t_coolant)
     release = max(q, 0.0) / t

@@ -45,7 +45,7 @@ def _energetic_screen(rec: SpeciesRecord, smiles: str | None, case: "Case",
 
     comp = rec.composition
     try:
-        ob = energetics.oxygen_balance(comp) if rec.charge == 0 else None
+        ob = energetics.oxygen_balance(comp) + 0.0 if rec.charge == 0 else None  # no "-0.0"
     except DossierError:
         ob = None
     dec = None
@@ -63,7 +63,9 @@ def _energetic_screen(rec: SpeciesRecord, smiles: str | None, case: "Case",
         # A negative maximum means no exothermic decomposition into these products.
         scr = energetics.un_screening(comp, smiles=smiles, decomposition_energy_J_per_g=(
             max(dec, 0.0) if dec is not None else None))
-        outcome, reason = scr.outcome, scr.reason
+        outcome, reason = scr.outcome, scr.reason.replace(
+            "decomposition.onset (onset of exothermic decomposition) missing",
+            "this species' own decomposition onset is not known")
         hits = tuple(h.name for h in scr.groups.hits)
         note = scr.groups.note
     except DossierError as err:
@@ -75,9 +77,18 @@ def _energetic_screen(rec: SpeciesRecord, smiles: str | None, case: "Case",
 
 
 def _is_screened(rec: SpeciesRecord) -> bool:
-    """Organic species carrying nitrogen or oxygen, or any species with a structure."""
+    """Species whose composition allows the usual energetic groups.
+
+    Nitrogen together with oxygen (nitro, nitrate, nitroso, N-oxide, ammonium
+    nitrate) or halogen together with oxygen (chlorate, perchlorate).  Peroxides
+    cannot be told from a formula: give the species a structure (``smiles``
+    in a case-local record) to have its groups checked.  Species with a
+    structure are always screened.
+    """
     comp = rec.composition
-    return "C" in comp and "H" in comp and ("N" in comp or "O" in comp or "Cl" in comp)
+    if "O" not in comp:
+        return False
+    return "N" in comp or any(x in comp for x in ("Cl", "Br", "I"))
 
 
 def assess_safety(case: "Case", reaction: "Reaction",
@@ -143,9 +154,12 @@ def assess_safety(case: "Case", reaction: "Reaction",
             entropy_universe_kJ_per_K=s_univ / 1e3, entropy_reading=reading,
             gas_mol=n_gas_mol)
 
+    endothermic = heat_J is not None and heat_J < 0.0
+    no_gas = n_gas_mol is not None and n_gas_mol <= 0.0
     try:
         sc = safety.runaway_scenario(
-            heat_J=heat_J,
+            # An endothermic reaction cannot heat the mass: no adiabatic rise.
+            heat_J=0.0 if endothermic else heat_J,
             mass_kg=ch.mass if ch else None, cp=ch.cp if ch else None,
             t_process=ch.process_temperature if ch else None,
             accumulation=ch.accumulation if ch else None,
@@ -158,24 +172,42 @@ def assess_safety(case: "Case", reaction: "Reaction",
             feed_time_s=ch.feed_time if ch else None,
             ua_W_per_K=vs.cooling_ua if vs else None,
             t_coolant=vs.coolant_temperature if vs else None,
-            n_gas_mol=n_gas_mol,
+            n_gas_mol=None if no_gas else n_gas_mol,
             free_volume_m3=vs.free_volume if vs else None,
             p_initial_Pa=case.pressure,
             design_pressure_Pa=vs.design_pressure if vs else None,
         )
     except DossierError as err:
-        raise CaseError([Problem(p.message, path, case.line_of("decomposition"), "decomposition")
-                         for p in err.problems]) from None
+        problems = []
+        for p in err.problems:
+            key = "decomposition" if "TD24" in p.message or "decomposition" in p.message else None
+            problems.append(Problem(p.message, path, case.line_of(key) if key else None, key))
+        raise CaseError(problems) from None
 
     if ch is None:
         not_assessed = (("heat and entropy at scale", ("[charge] table",)),) + sc.blocked
     else:
         not_assessed = sc.blocked
+    if no_gas:  # nothing to assess: the reaction makes no gas
+        not_assessed = tuple((f, m) for f, m in not_assessed
+                             if f not in ("gas volume", "gas pressure",
+                                          "pressure against design pressure"))
     if sc.criticality.klass is None:
         not_assessed += (("criticality class", sc.criticality.missing),)
-    missing = sc.missing if ch is not None else (("[charge] table (basis, amount, mass, cp, "
+    notes = list(sc.notes)
+    if endothermic:
+        notes.insert(0, f"the reaction is endothermic: it absorbs {-heat_J / 1e3:,.0f} kJ per batch "
+                        "and cannot heat the mass, so its adiabatic temperature rise is taken as "
+                        "zero (MTSR = process temperature)")
+    if no_gas:
+        notes.append("the reaction releases no gas (it makes no more gas than it uses), so "
+                     "there is no gas volume or pressure to assess")
+    missing = tuple(m for m in sc.missing if not (no_gas and m.startswith(("gas evolved",
+                                                                         "vessel.free_volume",
+                                                                         "vessel.design_pressure"))))
+    missing = missing if ch is not None else (("[charge] table (basis, amount, mass, cp, "
                                                   "process_temperature, accumulation)",)
-                                                 + sc.missing)
+                                                 + missing)
     cool = sc.cooling
     return Safety(
         scale=scale,
@@ -193,6 +225,6 @@ def assess_safety(case: "Case", reaction: "Reaction",
         pressure_at_mtsr_bar=sc.gas_pressure_Pa / 1e5 if sc.gas_pressure_Pa is not None else None,
         design_pressure_bar=vs.design_pressure / 1e5 if vs and vs.design_pressure else None,
         pressure_exceeds_design=sc.pressure_exceeds_design,
-        not_assessed=tuple(not_assessed), missing_inputs=tuple(missing), notes=sc.notes,
+        not_assessed=tuple(not_assessed), missing_inputs=tuple(missing), notes=tuple(notes),
         energetics=screens,
     )

