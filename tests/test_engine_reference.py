@@ -243,7 +243,10 @@ def test_gases_on_one_side_in_fixed_ratio_are_all_or_nothing():
     assert system.ln_q_fixed() == pytest.approx(math.log(0.25), rel=1e-12)
     assert system.solve(400.0, math.log(0.26)).conversion == 1.0
     assert system.solve(400.0, math.log(0.24)).conversion == 0.0
-    # With an inert gas the fractions change with the extent again.
+    # With 1 mol of inert gas per mole of reaction the fractions change with
+    # the extent again: y = ξ/(2ξ + 1) for each gas, Q = y².  For K = 0.05:
+    # y = 0.22361, ξ = 0.22361/(1 − 2·0.22361) = 0.40451 (hand calculation,
+    # common practice, no source).
     diluted = EquilibriumSystem(system.species, 1e5, inert_gas_per_reaction=1.0)
     assert diluted.depends_on_extent()
-    assert 0.0 < diluted.solve(400.0, math.log(0.24)).conversion < 1.0
+    assert diluted.solve(400.0, math.log(0.05)).conversion == pytest.approx(0.40451, abs=1e-5)
