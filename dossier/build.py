@@ -117,6 +117,7 @@ class RenderedSite:
     files: dict[str, bytes]
     packets: tuple[str, ...]
     problems: tuple[str, ...]  # e.g. a packet that asked for a missing file
+    failed: tuple[CaseFailure, ...] = ()  # cases left out because rendering them failed
 
 
 def _derivation(a: AssessedCase, slug: str):
@@ -167,18 +168,30 @@ def _species_key(a: AssessedCase, i: int) -> tuple[str, ...]:
     return ("local", a.case.id, use.record_id) if use.local else ("library", use.record_id)
 
 
+def _render_failure(a: AssessedCase, step: str, exc: Exception) -> CaseFailure:
+    where = traceback.extract_tb(exc.__traceback__)[-1]
+    return CaseFailure(str(a.path), (
+        f"{a.path}: internal error while {step} ({type(exc).__name__}: {exc}; at "
+        f"{Path(where.filename).name}:{where.lineno}); the case is left out; please report it",))
+
+
 def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure] = (),
                 meeting: str | None = None, packets: bool = True) -> RenderedSite:
-    """Every file of the site, as site path → bytes."""
+    """Every file of the site, as site path → bytes.
+
+    A case whose figures, pages or packet cannot be made is left out and
+    reported in ``RenderedSite.failed``; the other cases are unaffected.
+    """
     from . import site
     from .figures import formula_svg, species_figure
     from .packets import lay_out, write_pdf
 
     files: dict[str, bytes] = {}
     problems: list[str] = []
+    render_failed: list[CaseFailure] = []
     files["style.css"] = site.template_text("site.css").encode("utf-8")
     files["packet.css"] = site.template_text("packet.css").encode("utf-8")
-    for tex, path in site.kirchhoff_assets():
+    for tex, path in site.kirchhoff_assets() if packets else ():
         files[path] = formula_svg(tex).encode("utf-8")
 
     # slugs: cases, then species (library records by id, case-local ones per case)
@@ -191,31 +204,52 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
             species_keys.setdefault(key, (text, rec))
     sp_slug = site.unique_slugs([(k, text) for k, (text, _r) in species_keys.items()])
 
-    views = []
+    # each case: figures and formula images, then (optionally) its packet
+    done: list[tuple[AssessedCase, "CaseView"]] = []
+    printed: dict[str, object] = {}
+    made: list[str] = []
     for a in assessed:
         slug = case_slug[a.case.id]
-        v = case_view(a, slug, [sp_slug[_species_key(a, i)] for i in range(len(a.records))])
-        views.append(v)
-        files[f"cases/{slug}.html"] = site.render_case_page(v).encode("utf-8")
-        files[f"cases/{slug}-derivation.html"] = site.render_derivation_page(v).encode("utf-8")
-        files[f"cases/{slug}.json"] = _view_json(v)
-        for f in v.figures:
-            files[f"figures/cases/{slug}/{f.name}.svg"] = f.svg.encode("utf-8")
-        for path, tex in site.print_assets(v):
-            if path not in files:
-                files[path] = formula_svg(tex).encode("utf-8")
+        own: dict[str, bytes] = {}
+        try:
+            v = case_view(a, slug, [sp_slug[_species_key(a, i)] for i in range(len(a.records))])
+            for f in v.figures:
+                own[f"figures/cases/{slug}/{f.name}.svg"] = f.svg.encode("utf-8")
+            for path, tex in site.print_assets(v) if packets else ():
+                if path not in files:
+                    own[path] = formula_svg(tex).encode("utf-8")
+            own[f"cases/{slug}.json"] = _view_json(v)
+            if packets:
+                path = f"packets/{slug}.pdf"
+                p = lay_out(site.render_case_packet(v), f"packets/{slug}.html", {**files, **own})
+                problems.extend(f"{path}: asked for {u}" for u in p.refused)
+                own[path] = write_pdf([p], [_attachment(v)])
+                printed[slug] = p
+                made.append(path)
+        except Exception as exc:  # a defect, not bad input: isolate this case
+            render_failed.append(_render_failure(a, "drawing its figures and packet", exc))
+            continue
+        files.update(own)
+        done.append((a, v))
+    views = [v for _a, v in done]
 
-    # species pages
+    for a, v in done:
+        files[f"cases/{v.slug}.html"] = site.render_case_page(v, packets).encode("utf-8")
+        files[f"cases/{v.slug}-derivation.html"] = site.render_derivation_page(v).encode("utf-8")
+
+    # species pages: the records the published cases use
     used_by: dict[tuple, list[tuple[str, str, str]]] = {}
-    for a, v in zip(assessed, views):
+    for a, v in done:
         for i, use in enumerate(a.assessment.species):
             used_by.setdefault(_species_key(a, i), []).append((v.slug, a.case.id, use.key))
     for key, (text, rec) in species_keys.items():
+        if key not in used_by:
+            continue
         slug = sp_slug[key]
         fig = species_figure(rec)
         sv = site.SpeciesView(slug=slug, record=rec,
                               local_to=case_slug[key[1]] if key[0] == "local" else None,
-                              figure=fig, used_by=tuple(used_by.get(key, ())))
+                              figure=fig, used_by=tuple(used_by[key]))
         files[f"species/{slug}.html"] = site.render_species_page(sv).encode("utf-8")
         files[f"figures/species/{slug}/{fig.name}.svg"] = fig.svg.encode("utf-8")
 
@@ -230,28 +264,22 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
     meetings = tuple(site.MeetingView(date=d, slug=f"meeting-{site.slugify(d)}",
                                       cases=tuple(sorted(by_date[d], key=lambda v: v.id)))
                      for d in sorted(by_date) if meeting is None or d == meeting)
-
-    failed = tuple(site.FailedCase(f.file, f.problems) for f in failures)
-    files["index.html"] = site.render_register(views, failed, meetings).encode("utf-8")
-    files["methods.html"] = site.render_methods_page().encode("utf-8")
-
-    made: list[str] = []
     if packets:
-        printed: dict[str, object] = {}
-        for a, v in zip(assessed, views):
-            path = f"packets/{v.slug}.pdf"
-            p = lay_out(site.render_case_packet(v), f"packets/{v.slug}.html", files)
-            problems.extend(f"{path}: asked for {u}" for u in p.refused)
-            files[path] = write_pdf([p], [_attachment(v)])
-            printed[v.slug] = p
-            made.append(path)
         for m in meetings:
             path = f"packets/{m.slug}.pdf"
             parts = [printed[c.slug] for c in m.cases]
             cover = _meeting_cover(m, parts, files)
             files[path] = write_pdf([cover, *parts], [_attachment(c) for c in m.cases])
             made.append(path)
-    return RenderedSite(files, tuple(made), tuple(problems))
+
+    # the register names a bad file by its name, not by where the build ran
+    all_failed = [*failures, *render_failed]
+    failed = tuple(site.FailedCase(Path(f.file).name,
+                                   tuple(p.replace(f.file, Path(f.file).name, 1)
+                                         for p in f.problems)) for f in all_failed)
+    files["index.html"] = site.render_register(views, failed, meetings, packets).encode("utf-8")
+    files["methods.html"] = site.render_methods_page().encode("utf-8")
+    return RenderedSite(files, tuple(made), tuple(problems), tuple(render_failed))
 
 
 def _attachment(v: "CaseView"):
@@ -349,8 +377,13 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
         return BuildReport(cases_dir, out_dir, built, tuple(failures), written=False, strict=True)
 
     rendered = render_site(assessed, failures, meeting=meeting, packets=packets)
+    failed = (*failures, *rendered.failed)
+    left_out = {f.file for f in rendered.failed}
+    built = tuple(a.case.id for a in assessed if str(a.path) not in left_out)
+    if strict and rendered.failed:
+        return BuildReport(cases_dir, out_dir, built, failed, written=False, strict=True)
     result = write_site(out_dir, rendered.files, protected=[cases_dir])
-    return BuildReport(cases_dir, out_dir, built, tuple(failures), written=True, strict=strict,
+    return BuildReport(cases_dir, out_dir, built, failed, written=True, strict=strict,
                        files=result.files, packets=rendered.packets, notes=rendered.problems)
 
 

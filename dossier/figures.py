@@ -11,6 +11,7 @@ only inside this module, and only when a figure is drawn.
 """
 from __future__ import annotations
 
+import functools
 import io
 import math
 from dataclasses import dataclass
@@ -367,8 +368,33 @@ def species_range(record: "SpeciesRecord") -> tuple[float, float]:
     return lo, hi
 
 
+class _Record:
+    """A species record compared by its digest (so that its figure can be remembered)."""
+
+    __slots__ = ("record", "key")
+
+    def __init__(self, record: "SpeciesRecord"):
+        self.record = record
+        self.key = record.digest()
+
+    def __hash__(self) -> int:
+        return hash(self.key)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, _Record) and other.key == self.key
+
+
 def species_figure(record: "SpeciesRecord") -> Figure:
-    """Cp, H, S and G = H − TS of one species over (part of) its data range."""
+    """Cp, H, S and G = H − TS of one species over (part of) its data range.
+
+    The same record (same digest) always gives the same figure, so it is drawn once.
+    """
+    return _species_figure(_Record(record))
+
+
+@functools.lru_cache(maxsize=512)
+def _species_figure(held: _Record) -> Figure:
+    record = held.record
     lo, hi = species_range(record)
     T = np.linspace(lo, hi, 300)
     m = record.model
@@ -423,7 +449,7 @@ def formula_svg(latex: str, fontsize: float = 10.0) -> str:
         from matplotlib.font_manager import FontProperties
         from matplotlib.mathtext import MathTextParser
 
-        text = f"${latex}$"
+        text = "$" + latex.replace(r"\frac", r"\dfrac") + "$"  # fractions in display style
         prop = FontProperties(size=fontsize)
         width, height, depth, *_ = MathTextParser("path").parse(text, dpi=72, prop=prop)
         pad = 2.0

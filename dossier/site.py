@@ -23,16 +23,14 @@ Page map (paths relative to the site root)::
 from __future__ import annotations
 
 import base64
-import datetime
 import functools
 import hashlib
-import html
 import math
 import re
 import unicodedata
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from importlib.resources import files
-from typing import TYPE_CHECKING, Iterable, Mapping, Sequence
+from typing import TYPE_CHECKING, Iterable, Sequence
 
 from markupsafe import Markup, escape
 
@@ -111,10 +109,10 @@ def unit(x: float | None, u: str, digits: int = 2) -> str:
     return f"{num(x, digits)}{NBSP}{u}"
 
 
-def temp(T: float | None, digits: int = 2) -> str:
-    """'435.21 K (162.06 °C)'."""
+def temp(T: float | None, digits: int = 2, missing: str = "not assessed") -> str:
+    """'435.21 K (162.06 °C)'; ``missing`` for an absent value."""
     if T is None or (isinstance(T, float) and not math.isfinite(T)):
-        return "not assessed"
+        return missing
     return f"{num(T, digits, group=False)}{NBSP}K ({num(T - T0, digits, group=False)}{NBSP}°C)"
 
 
@@ -684,7 +682,8 @@ def content_policy(scripts: Iterable[str] = ()) -> str:
 # Pages
 
 def render_register(cases: Sequence[CaseView], failed: Sequence[FailedCase] = (),
-                    meetings: Sequence[MeetingView] = ()) -> str:
+                    meetings: Sequence[MeetingView] = (), packets: bool = True) -> str:
+    """The register; ``packets`` says whether the PDF packets exist to be linked."""
     open_cases = sorted((c for c in cases if c.assessment.status in OPEN_STATUSES),
                         key=lambda c: (OPEN_STATUSES.index(c.assessment.status),
                                        c.assessment.meeting or "9999", c.id))
@@ -694,12 +693,13 @@ def render_register(cases: Sequence[CaseView], failed: Sequence[FailedCase] = ()
     script = template_text("filter.js")
     return _render("register.html", root="", open_cases=open_cases, decided=decided,
                    failed=failed, meetings=meetings, count=len(cases), filter_script=script,
+                   packets=packets,
                    csp=content_policy([script]), page_title="Register of cases")
 
 
-def render_case_page(view: CaseView) -> str:
+def render_case_page(view: CaseView, packets: bool = True) -> str:
     a = view.assessment
-    return _render("case.html", root="../", v=view, a=a, print_mode=False,
+    return _render("case.html", root="../", v=view, a=a, print_mode=False, packets=packets,
                    csp=content_policy(), page_title=f"{a.case_id}: {a.title}")
 
 

@@ -99,10 +99,11 @@ def check_relpath(rel: str) -> PurePosixPath:
     """A safe relative output path, or ValueError."""
     if not isinstance(rel, str) or not rel or "\\" in rel or "\x00" in rel:
         raise ValueError(f"unsafe output path {rel!r}")
-    p = PurePosixPath(rel)
-    if p.is_absolute() or any(part in ("", ".", "..") for part in p.parts):
+    parts = rel.split("/")
+    if rel.startswith("/") or any(part in ("", ".", "..") for part in parts):
         raise ValueError(f"unsafe output path {rel!r}")
-    if any(part.startswith(".") for part in p.parts) and rel != MARKER:
+    p = PurePosixPath(rel)
+    if any(part.startswith(".") for part in parts) and rel != MARKER:
         raise ValueError(f"hidden output path {rel!r}")
     return p
 
