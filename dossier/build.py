@@ -26,6 +26,7 @@ from .errors import CaseError, DossierError, Problem
 if TYPE_CHECKING:  # pragma: no cover
     from .assess import Assessment
     from .case import Case
+    from .decisions import CaseDecisions
     from .integrity import IntegrityRecord
     from .site import CaseView
     from .species import Library, SpeciesRecord
@@ -56,6 +57,7 @@ class AssessedCase:
     thermo: "ReactionThermo"
     integrity: "IntegrityRecord | None"
     integrity_note: str
+    decisions: "CaseDecisions | None" = None  # signatures, recorded verdicts, revision history
 
 
 def reaction_thermo(case: "Case", assessment: "Assessment", library: "Library"
@@ -106,7 +108,10 @@ def assess_file(path: Path, library: "Library") -> AssessedCase | CaseFailure:
             f"{path}: internal error while assessing this case ({type(exc).__name__}: {exc}; "
             f"at {Path(where.filename).name}:{where.lineno}); please report it",))
     integrity, note = _integrity(path)
-    return AssessedCase(path, case, assessment, records, thermo, integrity, note)
+    from .decisions import collect_decisions
+
+    decisions = collect_decisions(path, case, assessment, integrity, library)
+    return AssessedCase(path, case, assessment, records, thermo, integrity, note, decisions)
 
 
 # --------------------------------------------------------------------------
@@ -160,7 +165,7 @@ def case_view(a: AssessedCase, slug: str, species_slugs: Sequence[str]) -> "Case
         decomposition=c.decomposition, measured=c.measured,
         species_slugs=tuple(species_slugs), figures=case_figures(a.thermo, a.assessment),
         derivation=derivation, derivation_note=note, integrity=a.integrity,
-        integrity_note=a.integrity_note or NOT_COMPUTED)
+        integrity_note=a.integrity_note or NOT_COMPUTED, decisions=a.decisions)
 
 
 def _species_key(a: AssessedCase, i: int) -> tuple[str, ...]:

@@ -37,6 +37,7 @@ from markupsafe import Markup, escape
 from .findings import SEVERITIES
 
 if TYPE_CHECKING:  # pragma: no cover
+    from .decisions import CaseDecisions
     from .assess import Assessment, SpeciesUse
     from .case import Charge, Decomposition, Measured, Review, Vessel
     from .derivation import Segment
@@ -557,6 +558,7 @@ class CaseView:
     derivation_note: str = ""
     integrity: "IntegrityRecord | None" = None
     integrity_note: str = "integrity record: not yet computed"
+    decisions: "CaseDecisions | None" = None
 
     @property
     def id(self) -> str:

@@ -329,3 +329,14 @@ def test_archived_revisions_show_the_changes_the_narratives_describe(library):
     (_, p1), (_, p2) = load("peroxide-destruction", 1), load("peroxide-destruction")
     assert p1.safety.scale.enthalpy_origin == "computed"
     assert p2.safety.scale.enthalpy_origin == "measured"
+
+
+def test_demo_signatures_are_valid():
+    # The demo register carries signed verdicts (cases/*.signatures, checked
+    # against cases/trusted-keys.txt).  They cover the case bytes, the species
+    # records used, the library and tool versions and the method settings: if
+    # this fails after such a change, that is the integrity record working;
+    # re-sign the demo cases (see docs/signatures.md) with fresh demo keys.
+    result = CliRunner().invoke(main, ["verify", str(CASES)])
+    assert result.exit_code == 0, result.output
+    assert "4 signatures: 4 valid" in result.output
