@@ -5,7 +5,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed
 
-.PHONY: site test bench clean
+.PHONY: site test bench screens clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -18,6 +18,9 @@ site: $(STAMP)
 
 test: $(STAMP)
 	$(PY) -m pytest -q
+
+screens: site
+	$(PY) tools/screens.py
 
 bench: $(STAMP)
 	$(PY) bench/run.py

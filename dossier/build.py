@@ -19,7 +19,7 @@ import json
 import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import TYPE_CHECKING, Sequence
+from typing import TYPE_CHECKING, Callable, Mapping, Sequence
 
 from .errors import CaseError, DossierError, Problem
 
@@ -28,7 +28,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .case import Case
     from .decisions import CaseDecisions
     from .integrity import IntegrityRecord
-    from .site import CaseView
+    from .site import CaseView, MeetingView
     from .species import Library, SpeciesRecord
     from .thermo import ReactionThermo
 
@@ -180,110 +180,204 @@ def _render_failure(a: AssessedCase, step: str, exc: Exception) -> CaseFailure:
         f"{Path(where.filename).name}:{where.lineno}); the case is left out; please report it",))
 
 
-def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure] = (),
-                meeting: str | None = None, packets: bool = True) -> RenderedSite:
-    """Every file of the site, as site path → bytes.
-
-    A case whose figures, pages or packet cannot be made is left out and
-    reported in ``RenderedSite.failed``; the other cases are unaffected.
-    """
+def base_files(packets: bool = True) -> dict[str, bytes]:
+    """The files every site has: stylesheets and (with packets) the Kirchhoff formula images."""
     from . import site
-    from .figures import formula_svg, species_figure
-    from .packets import lay_out, write_pdf
+    from .figures import formula_svg
 
-    files: dict[str, bytes] = {}
-    problems: list[str] = []
-    render_failed: list[CaseFailure] = []
-    files["style.css"] = site.template_text("site.css").encode("utf-8")
-    files["packet.css"] = site.template_text("packet.css").encode("utf-8")
+    files = {"style.css": site.template_text("site.css").encode("utf-8"),
+             "packet.css": site.template_text("packet.css").encode("utf-8")}
     for tex, path in site.kirchhoff_assets() if packets else ():
         files[path] = formula_svg(tex).encode("utf-8")
+    return files
 
-    # slugs: cases, then species (library records by id, case-local ones per case)
+
+@dataclass(frozen=True)
+class CaseOutput:
+    """What one case contributes to the site (figures, formulas, JSON, packet)."""
+
+    view: "CaseView"
+    files: dict[str, bytes]
+    printed: object | None  # the laid-out packet (packets.Printed) for meeting packets
+    problems: tuple[str, ...]
+
+
+def case_output(a: AssessedCase, slug: str, species_slugs: Sequence[str], packets: bool,
+                base: Mapping[str, bytes]) -> CaseOutput:
+    """Figures, formula images, data export and (optionally) the packet of one case.
+
+    Raises on a defect; the callers turn that into a :class:`CaseFailure`.
+    """
+    from . import site
+    from .figures import formula_svg
+    from .packets import lay_out, write_pdf
+
+    v = case_view(a, slug, species_slugs)
+    own: dict[str, bytes] = {}
+    problems: list[str] = []
+    for f in v.figures:
+        own[f"figures/cases/{slug}/{f.name}.svg"] = f.svg.encode("utf-8")
+    for path, tex in site.print_assets(v) if packets else ():
+        if path not in base:
+            own[path] = formula_svg(tex).encode("utf-8")
+    own[f"cases/{slug}.json"] = _view_json(v)
+    printed = None
+    if packets:
+        path = f"packets/{slug}.pdf"
+        printed = lay_out(site.render_case_packet(v), f"packets/{slug}.html", {**base, **own})
+        problems.extend(f"{path}: asked for {u}" for u in printed.refused)
+        own[path] = write_pdf([printed], [_attachment(v)])
+    return CaseOutput(v, own, printed, tuple(problems))
+
+
+def case_pages(v: "CaseView", packets: bool) -> dict[str, bytes]:
+    from . import site
+
+    return {f"cases/{v.slug}.html": site.render_case_page(v, packets).encode("utf-8"),
+            f"cases/{v.slug}-derivation.html": site.render_derivation_page(v).encode("utf-8")}
+
+
+def species_files(rec: "SpeciesRecord", slug: str, local_to: str | None,
+                  used_by: Sequence[tuple[str, str, str]]) -> dict[str, bytes]:
+    """The page and figure of one species record."""
+    from . import site
+    from .figures import species_figure
+
+    fig = species_figure(rec)
+    sv = site.SpeciesView(slug=slug, record=rec, local_to=local_to, figure=fig,
+                          used_by=tuple(used_by))
+    return {f"species/{slug}.html": site.render_species_page(sv).encode("utf-8"),
+            f"figures/species/{slug}/{fig.name}.svg": fig.svg.encode("utf-8")}
+
+
+def meeting_pdf(m: "MeetingView", parts: Sequence[object], files: Mapping[str, bytes]) -> bytes:
+    """The packet of a meeting: cover and agenda, then each case's laid-out packet."""
+    from .packets import write_pdf
+
+    cover = _meeting_cover(m, parts, files)
+    return write_pdf([cover, *parts], [_attachment(c) for c in m.cases])
+
+
+@dataclass(frozen=True)
+class SiteLayout:
+    """Slugs and cross-links of a set of assessed cases (cheap; no rendering)."""
+
+    case_slug: dict[str, str]  # case id -> slug
+    species: dict[tuple, tuple[str, "SpeciesRecord"]]  # species key -> (text, record)
+    species_slug: dict[tuple, str]
+
+    def species_slugs(self, a: AssessedCase) -> list[str]:
+        return [self.species_slug[_species_key(a, i)] for i in range(len(a.records))]
+
+    def used_by(self, published: Sequence[AssessedCase]) -> dict[tuple, list[tuple[str, str, str]]]:
+        used: dict[tuple, list[tuple[str, str, str]]] = {}
+        for a in published:
+            for i, use in enumerate(a.assessment.species):
+                used.setdefault(_species_key(a, i), []).append(
+                    (self.case_slug[a.case.id], a.case.id, use.key))
+        return used
+
+
+def site_layout(assessed: Sequence[AssessedCase]) -> SiteLayout:
+    from . import site
+
     case_slug = site.case_slugs([a.case.id for a in assessed])
     species_keys: dict[tuple, tuple[str, "SpeciesRecord"]] = {}
     for a in assessed:
         for i, rec in enumerate(a.records):
-            key = _species_key(a, i)
-            text = f"local {case_slug[a.case.id]} {rec.id}" if key[0] == "local" else rec.id
-            species_keys.setdefault(key, (text, rec))
+            k = _species_key(a, i)
+            text = f"local {case_slug[a.case.id]} {rec.id}" if k[0] == "local" else rec.id
+            species_keys.setdefault(k, (text, rec))
     sp_slug = site.unique_slugs([(k, text) for k, (text, _r) in species_keys.items()])
+    return SiteLayout(case_slug, species_keys, sp_slug)
 
-    # each case: figures and formula images, then (optionally) its packet
-    done: list[tuple[AssessedCase, "CaseView"]] = []
-    printed: dict[str, object] = {}
-    made: list[str] = []
-    for a in assessed:
-        slug = case_slug[a.case.id]
-        own: dict[str, bytes] = {}
-        try:
-            v = case_view(a, slug, [sp_slug[_species_key(a, i)] for i in range(len(a.records))])
-            for f in v.figures:
-                own[f"figures/cases/{slug}/{f.name}.svg"] = f.svg.encode("utf-8")
-            for path, tex in site.print_assets(v) if packets else ():
-                if path not in files:
-                    own[path] = formula_svg(tex).encode("utf-8")
-            own[f"cases/{slug}.json"] = _view_json(v)
-            if packets:
-                path = f"packets/{slug}.pdf"
-                p = lay_out(site.render_case_packet(v), f"packets/{slug}.html", {**files, **own})
-                problems.extend(f"{path}: asked for {u}" for u in p.refused)
-                own[path] = write_pdf([p], [_attachment(v)])
-                printed[slug] = p
-                made.append(path)
-        except Exception as exc:  # a defect, not bad input: isolate this case
-            render_failed.append(_render_failure(a, "drawing its figures and packet", exc))
-            continue
-        files.update(own)
-        done.append((a, v))
-    views = [v for _a, v in done]
 
-    for a, v in done:
-        files[f"cases/{v.slug}.html"] = site.render_case_page(v, packets).encode("utf-8")
-        files[f"cases/{v.slug}-derivation.html"] = site.render_derivation_page(v).encode("utf-8")
+def meeting_views(views: Sequence["CaseView"], meeting: str | None
+                  ) -> tuple[tuple["MeetingView", ...], list[str]]:
+    from . import site
 
-    # species pages: the records the published cases use
-    used_by: dict[tuple, list[tuple[str, str, str]]] = {}
-    for a, v in done:
-        for i, use in enumerate(a.assessment.species):
-            used_by.setdefault(_species_key(a, i), []).append((v.slug, a.case.id, use.key))
-    for key, (text, rec) in species_keys.items():
-        if key not in used_by:
-            continue
-        slug = sp_slug[key]
-        fig = species_figure(rec)
-        sv = site.SpeciesView(slug=slug, record=rec,
-                              local_to=case_slug[key[1]] if key[0] == "local" else None,
-                              figure=fig, used_by=tuple(used_by[key]))
-        files[f"species/{slug}.html"] = site.render_species_page(sv).encode("utf-8")
-        files[f"figures/species/{slug}/{fig.name}.svg"] = fig.svg.encode("utf-8")
-
-    # meetings
     by_date: dict[str, list] = {}
     for v in views:
         if v.assessment.meeting:
             by_date.setdefault(v.assessment.meeting, []).append(v)
+    problems = []
     if meeting is not None and meeting not in by_date:
         problems.append(f"no case names the meeting {meeting}; known meetings: "
                         f"{', '.join(sorted(by_date)) or 'none'}")
     meetings = tuple(site.MeetingView(date=d, slug=f"meeting-{site.slugify(d)}",
                                       cases=tuple(sorted(by_date[d], key=lambda v: v.id)))
                      for d in sorted(by_date) if meeting is None or d == meeting)
+    return meetings, problems
+
+
+def guide_pages() -> dict[str, bytes]:
+    """The user guide's pages (docs/*.md), where this version of dossier has them."""
+    from . import site
+
+    render = getattr(site, "render_guide_pages", None)
+    return dict(render()) if render is not None else {}
+
+
+def failed_rows(failures: Sequence[CaseFailure]):
+    """The register names a bad file by its name, not by where the build ran."""
+    from . import site
+
+    return tuple(site.FailedCase(Path(f.file).name,
+                                 tuple(p.replace(f.file, Path(f.file).name, 1) for p in f.problems))
+                 for f in failures)
+
+
+def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure] = (),
+                meeting: str | None = None, packets: bool = True) -> RenderedSite:
+    """Every file of the site, as site path → bytes (in memory, one process, no cache).
+
+    A case whose figures, pages or packet cannot be made is left out and
+    reported in ``RenderedSite.failed``; the other cases are unaffected.
+    """
+    from . import site
+
+    files = base_files(packets)
+    problems: list[str] = []
+    render_failed: list[CaseFailure] = []
+    layout = site_layout(assessed)
+    done: list[tuple[AssessedCase, CaseOutput]] = []
+    made: list[str] = []
+    for a in assessed:
+        slug = layout.case_slug[a.case.id]
+        try:
+            out = case_output(a, slug, layout.species_slugs(a), packets, files)
+        except Exception as exc:  # a defect, not bad input: isolate this case
+            render_failed.append(_render_failure(a, "drawing its figures and packet", exc))
+            continue
+        files.update(out.files)
+        problems.extend(out.problems)
+        if packets:
+            made.append(f"packets/{slug}.pdf")
+        done.append((a, out))
+    views = [o.view for _a, o in done]
+    for v in views:
+        files.update(case_pages(v, packets))
+
+    used_by = layout.used_by([a for a, _o in done])
+    for k, (_text, rec) in layout.species.items():
+        if k in used_by:
+            files.update(species_files(rec, layout.species_slug[k],
+                                       layout.case_slug[k[1]] if k[0] == "local" else None,
+                                       used_by[k]))
+
+    meetings, meeting_problems = meeting_views(views, meeting)
+    problems.extend(meeting_problems)
     if packets:
+        printed = {o.view.slug: o.printed for _a, o in done}
         for m in meetings:
             path = f"packets/{m.slug}.pdf"
-            parts = [printed[c.slug] for c in m.cases]
-            cover = _meeting_cover(m, parts, files)
-            files[path] = write_pdf([cover, *parts], [_attachment(c) for c in m.cases])
+            files[path] = meeting_pdf(m, [printed[c.slug] for c in m.cases], files)
             made.append(path)
 
-    # the register names a bad file by its name, not by where the build ran
-    all_failed = [*failures, *render_failed]
-    failed = tuple(site.FailedCase(Path(f.file).name,
-                                   tuple(p.replace(f.file, Path(f.file).name, 1)
-                                         for p in f.problems)) for f in all_failed)
+    failed = failed_rows([*failures, *render_failed])
     files["index.html"] = site.render_register(views, failed, meetings, packets).encode("utf-8")
     files["methods.html"] = site.render_methods_page().encode("utf-8")
+    files.update(guide_pages())
     return RenderedSite(files, tuple(made), tuple(problems), tuple(render_failed))
 
 

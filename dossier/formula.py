@@ -31,6 +31,25 @@ _CHARGE_RE = re.compile(
 )
 _TOKEN_RE = re.compile(r"([A-Z][a-z]?)|(\d+(?:\.\d+)?)|([(\[])|([)\]])")
 
+#: Largest element count or charge a formula may give (no real species comes near).
+MAX_COUNT = 10**6
+
+
+def _bounded(value: Fraction | int, original: str) -> Fraction | int:
+    """``value`` when within :data:`MAX_COUNT`, else FormulaError (absurd input)."""
+    if abs(value) > MAX_COUNT:
+        raise FormulaError(f"formula '{original[:60]}' gives a count or charge above "
+                           f"{MAX_COUNT:,}; no species has that many")
+    return value
+
+
+def _number(digits: str, original: str) -> Fraction:
+    """A count as written; absurdly long numbers are refused before conversion."""
+    if len(digits) > 12:
+        raise FormulaError(f"formula '{original[:60]}' has a count with more than 12 "
+                           "digits; no species has that many")
+    return Fraction(digits)
+
 
 @dataclass(frozen=True)
 class Formula:
@@ -81,13 +100,13 @@ def _split_charge(text: str) -> tuple[str, int]:
     if not m or m.start() == 0:
         return text, 0
     if m.group("s1"):
-        sign, n = m.group("s1"), int(m.group("n1"))
+        sign, n = m.group("s1"), int(_number(m.group("n1"), text))
     elif m.group("s2"):
-        sign, n = m.group("s2"), int(m.group("n2"))
+        sign, n = m.group("s2"), int(_number(m.group("n2"), text))
     else:
         run = m.group("s3")
         sign, n = run[0], len(run)
-    return text[: m.start()], (n if sign == "+" else -n)
+    return text[: m.start()], int(_bounded(n if sign == "+" else -n, text))
 
 
 def _parse_part(text: str, original: str) -> dict[str, Fraction]:
@@ -103,17 +122,18 @@ def _parse_part(text: str, original: str) -> dict[str, Fraction]:
         if el:
             if el not in ATOMIC_WEIGHTS or el == "E":
                 raise FormulaError(f"'{el}' in formula '{original}' is not an element symbol")
-            stack[-1][el] = stack[-1].get(el, Fraction(0)) + 1
+            stack[-1][el] = _bounded(stack[-1].get(el, Fraction(0)) + 1, original)
             last = el
         elif num:
             if last is None:
                 raise FormulaError(f"a count in formula '{original}' has nothing to multiply")
-            k = Fraction(num)
+            k = _number(num, original)
             if isinstance(last, str):
-                stack[-1][last] += k - 1
+                stack[-1][last] = _bounded(stack[-1][last] + k - 1, original)
             else:
                 for e, c in last.items():
-                    stack[-1][e] = stack[-1].get(e, Fraction(0)) + c * (k - 1)
+                    stack[-1][e] = _bounded(stack[-1].get(e, Fraction(0)) + c * (k - 1),
+                                            original)
             last = None
         elif opening:
             stack.append({})
@@ -123,7 +143,7 @@ def _parse_part(text: str, original: str) -> dict[str, Fraction]:
                 raise FormulaError(f"unbalanced bracket in formula '{original}'")
             group = stack.pop()
             for e, c in group.items():
-                stack[-1][e] = stack[-1].get(e, Fraction(0)) + c
+                stack[-1][e] = _bounded(stack[-1].get(e, Fraction(0)) + c, original)
             last = group
     if len(stack) != 1:
         raise FormulaError(f"unbalanced bracket in formula '{original}'")
@@ -140,11 +160,11 @@ def parse_formula(text: str) -> Formula:
     total: dict[str, Fraction] = {}
     for part in re.split(r"[.·*]", body) if body else []:
         m = re.match(r"^(\d+(?:\.\d+)?)?(.*)$", part)
-        mult = Fraction(m.group(1)) if m.group(1) else Fraction(1)
+        mult = _number(m.group(1), original) if m.group(1) else Fraction(1)
         if not m.group(2):
             raise FormulaError(f"cannot read formula '{original}'")
         for el, c in _parse_part(m.group(2), original).items():
-            total[el] = total.get(el, Fraction(0)) + mult * c
+            total[el] = _bounded(total.get(el, Fraction(0)) + mult * c, original)
     elements = tuple(sorted((el, n) for el, n in total.items() if n))
     if not elements and charge == 0:
         raise FormulaError(f"formula '{original}' has no elements")

@@ -743,6 +743,63 @@ def render_methods_page() -> str:
 
 
 # --------------------------------------------------------------------------
+# The user guide (docs/*.md, shipped as the package dossier.docs)
+
+GUIDE_PAGES = (("guide", "index", "User guide"), ("case-format", "case-format", "The case file format"),
+               ("signatures", "signatures", "Integrity records and signatures"))
+
+
+def _guide_link(tag: str, attr: str, value: str) -> str | None:
+    """Keep links between guide pages (x.md → x.html), anchors and web links."""
+    if tag == "img":
+        return None
+    if tag == "a" and attr == "href":
+        v = value.strip()
+        m = re.fullmatch(r"(?:docs/)?([a-z0-9-]+)\.md(#[\w-]+)?", v)
+        if m:
+            names = {doc: page for doc, page, _t in GUIDE_PAGES}
+            if m.group(1) in names:
+                return f"{names[m.group(1)]}.html{m.group(2) or ''}"
+            return None
+        if v.lower().startswith(("https://", "http://", "mailto:")) or v.startswith("#"):
+            return v
+        return None
+    return value
+
+
+def guide_html(markdown_text: str) -> Markup:
+    """The guide's Markdown as sanitised HTML (same allow-list as narratives)."""
+    import markdown
+    import nh3
+
+    raw = markdown.markdown(markdown_text, extensions=["tables", "fenced_code", "sane_lists", "toc"],
+                            output_format="html")
+    clean = nh3.clean(raw, tags=NARRATIVE_TAGS | {"h1", "h2"}, clean_content_tags={"script", "style"},
+                      attributes={"a": {"href", "title"}, "th": {"align"}, "td": {"align"},
+                                  "h1": {"id"}, "h2": {"id"}, "h3": {"id"}, "h4": {"id"}},
+                      attribute_filter=_guide_link, url_schemes={"http", "https", "mailto"},
+                      link_rel="noopener noreferrer nofollow", strip_comments=True)
+    return Markup(clean)
+
+
+def render_guide_pages() -> dict[str, bytes]:
+    """Site path → page for every guide document that ships with dossier."""
+    import importlib.resources
+
+    docs = importlib.resources.files("dossier.docs")
+    out: dict[str, bytes] = {}
+    for doc, page, title in GUIDE_PAGES:
+        source = docs / f"{doc}.md"
+        if not source.is_file():
+            continue
+        body = guide_html(source.read_text(encoding="utf-8"))
+        html = _render("guide.html", root="../", body=body, csp=content_policy(), page_title=title,
+                       pages=GUIDE_PAGES)
+        out[f"guide/{page}.html"] = html.encode("utf-8")
+    return out
+
+
+# --------------------------------------------------------------------------
 # Packet HTML (turned into PDF by dossier.packets)
 
 def render_case_packet(view: CaseView) -> str:

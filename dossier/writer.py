@@ -34,6 +34,8 @@ from .errors import DossierError, Problem
 
 #: Marker file written into every site; its presence lets a rebuild replace the folder.
 MARKER = ".dossier-site"
+#: The build's record of its inputs and files, written with every site (see dossier.build).
+MANIFEST = ".dossier-manifest.json"
 MARKER_TEXT = ("This folder is a dossier site. `dossier build` replaces it as a whole "
                "on every build; do not keep other files here.\n")
 
@@ -126,11 +128,38 @@ def _exchange(a: Path, b: Path) -> bool:
     return rc == 0
 
 
+def _link_or_copy(src: Path, dest: Path) -> None:
+    """Hard-link ``src`` (a cache blob) to ``dest``; copy where links fail."""
+    try:
+        os.link(src, dest)
+    except OSError:  # another file system, no link support, too many links
+        shutil.copyfile(src, dest)
+        os.chmod(dest, 0o644)
+
+
+def read_manifest(out_dir: Path) -> bytes | None:
+    """The manifest of the site in ``out_dir`` (as written by :func:`write_site`), or None."""
+    try:
+        return (Path(out_dir) / MANIFEST).read_bytes()
+    except OSError:
+        return None
+
+
 def write_site(out_dir: Path, files: Mapping[str, bytes],
-               protected: Iterable[Path] = ()) -> WriteResult:
-    """Write ``files`` as the complete new content of ``out_dir``, atomically."""
+               protected: Iterable[Path] = (), linked: Mapping[str, Path] | None = None,
+               manifest: bytes | None = None) -> WriteResult:
+    """Write ``files`` as the complete new content of ``out_dir``, atomically.
+
+    ``linked`` are further files given as existing files (cache blobs) to
+    hard-link or copy in; ``manifest`` is written as :data:`MANIFEST`.
+    """
     target = check_target(out_dir, protected)
+    linked = dict(linked or {})
+    both = set(files) & set(linked)
+    if both:
+        raise ValueError(f"output paths given twice: {sorted(both)[:3]}")
     checked = [(check_relpath(rel), data) for rel, data in sorted(files.items())]
+    links = [(check_relpath(rel), Path(src)) for rel, src in sorted(linked.items())]
     tmp = Path(tempfile.mkdtemp(prefix=f".{target.name}.building-", dir=target.parent))
     old: Path | None = None
     try:
@@ -141,6 +170,13 @@ def write_site(out_dir: Path, files: Mapping[str, bytes],
             with open(dest, "xb") as fh:
                 fh.write(data)
             total += len(data)
+        for rel, src in links:
+            dest = tmp.joinpath(*rel.parts)
+            dest.parent.mkdir(parents=True, exist_ok=True)
+            _link_or_copy(src, dest)
+            total += dest.stat().st_size
+        if manifest is not None:
+            (tmp / MANIFEST).write_bytes(manifest)
         (tmp / MARKER).write_text(MARKER_TEXT, encoding="utf-8")
         os.chmod(tmp, 0o755)  # mkdtemp makes 0700; a site is meant to be read
         replaced = target.exists()
@@ -156,7 +192,7 @@ def write_site(out_dir: Path, files: Mapping[str, bytes],
             except BaseException:
                 os.rename(old / "site", target)  # put the previous site back
                 raise
-        return WriteResult(target, len(checked), total, replaced)
+        return WriteResult(target, len(checked) + len(links), total, replaced)
     except BaseException:
         if tmp.exists() and (old is None or tmp != old):
             shutil.rmtree(tmp, ignore_errors=True)
@@ -166,4 +202,5 @@ def write_site(out_dir: Path, files: Mapping[str, bytes],
             shutil.rmtree(old, ignore_errors=True)
 
 
-__all__ = ["MARKER", "OutputError", "WriteResult", "check_relpath", "check_target", "write_site"]
+__all__ = ["MANIFEST", "MARKER", "OutputError", "WriteResult", "check_relpath", "check_target",
+           "read_manifest", "write_site"]

@@ -225,7 +225,8 @@ def test_payloads_in_every_free_text_field_stay_text():
         bits = [x for x in _executable_bits(tree) if x != "<script>"]
         assert bits == [], (page.name, bits)
         assert all(el.text == own_script for el in scripts), page.name
-        assert len(scripts) == (1 if page.name == "index.html" else 0)
+        # only the register (the site's top index.html) carries the filter script
+        assert len(scripts) == (1 if page == b.root / "index.html" else 0)
         csp = [el.get("content") for el in tree.iter("meta")
                if el.get("http-equiv") == "Content-Security-Policy"]
         assert csp and "default-src 'none'" in csp[0] and "unsafe-inline" not in csp[0]
@@ -441,6 +442,7 @@ def test_built_wheel_contains_the_templates(tmp_path):
                     ignore=shutil.ignore_patterns("__pycache__"))
     shutil.copytree(ROOT / "templates", src / "templates",
                     ignore=shutil.ignore_patterns("__pycache__"))
+    shutil.copytree(ROOT / "docs", src / "docs", ignore=shutil.ignore_patterns("__pycache__"))
     import importlib.util
 
     # without isolation when the build backend is at hand (faster, no index needed)
@@ -460,5 +462,7 @@ def test_built_wheel_contains_the_templates(tmp_path):
                if p.suffix in (".html", ".css", ".js")}
     assert shipped >= {"base.html", "case.html", "register.html", "site.css", "packet.css",
                        "filter.js"}
+    # the user guide ships too (rendered into the site's guide/ pages)
+    assert {"dossier/docs/guide.md", "dossier/docs/case-format.md"} <= names
     for name in shipped:
         assert f"dossier/templates/{name}" in names, name

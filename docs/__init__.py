@@ -1,0 +1,1 @@
+"""The user guide and format documentation (Markdown), rendered into the site."""
