@@ -63,6 +63,14 @@ _COEFF_RE = re.compile(rf"^(?P<coeff>{_NUMBER})\s+(?P<label>\S.*)$", re.DOTALL)
 _GLUED_RE = re.compile(rf"^(?P<coeff>{_NUMBER})(?P<rest>[A-Z(\[]\S*)$")
 _ALLOWED_PHASES_TEXT = "(g), (l), (s) or (cr), (aq)"
 
+#: Most terms a reaction may have (both sides together); more is not a reaction
+#: a review board can check, and would make species resolution take very long.
+MAX_TERMS = 100
+#: Longest coefficient as written (characters), e.g. ``0.000125`` or ``355/113``.
+MAX_COEFFICIENT_CHARS = 20
+#: Longest reaction string accepted (characters, white space collapsed).
+MAX_REACTION_CHARS = 10_000
+
 Composition = tuple[Mapping[str, "float | int | Fraction"], int]
 
 
@@ -206,6 +214,11 @@ def _parse_term(text: str) -> Term:
     body = m.group("body").strip()
     coefficient = Fraction(1)
     cm = _COEFF_RE.match(body)
+    if cm and len(cm.group("coeff")) > MAX_COEFFICIENT_CHARS:
+        raise ReactionError(
+            f"term '{text[:60]}' has a coefficient longer than {MAX_COEFFICIENT_CHARS} "
+            "characters: write a smaller whole number, decimal or fraction"
+        )
     if cm:
         try:
             coefficient = Fraction(cm.group("coeff"))
@@ -236,7 +249,7 @@ def _parse_side(side: str, reaction_text: str, which: str) -> tuple[Term, ...]:
     if not side.strip():
         raise ReactionError(f"reaction '{reaction_text}' has no {which}")
     terms = []
-    for chunk in _split_terms(side):
+    for chunk in _split_terms(side)[:MAX_TERMS + 1]:
         if not chunk:
             raise ReactionError(
                 f"reaction '{reaction_text}' has an empty term among its {which} "
@@ -256,6 +269,11 @@ def parse_reaction(text: str) -> Reaction:
     written = " ".join(text.split())
     if not written:
         raise ReactionError("the reaction is empty")
+    if len(written) > MAX_REACTION_CHARS:
+        raise ReactionError(
+            f"the reaction is {len(written):,} characters long; at most "
+            f"{MAX_REACTION_CHARS:,} are accepted (it starts '{written[:40]}')"
+        )
     bad = _BAD_ARROW_RE.search(written)
     if bad:
         raise ReactionError(
@@ -275,6 +293,12 @@ def parse_reaction(text: str) -> Reaction:
             "write one '->' (forward) or '<=>' (equilibrium)"
         )
     arrow = arrows[0]
+    n_terms = len(_split_terms(written[: arrow.start()])) + len(_split_terms(written[arrow.end():]))
+    if n_terms > MAX_TERMS:
+        raise ReactionError(
+            f"reaction '{written[:60]}...' has {n_terms} terms; at most {MAX_TERMS} are "
+            "accepted: write the reaction a review board checks, with its main species"
+        )
     reactants = _parse_side(written[: arrow.start()], written, "reactants")
     products = _parse_side(written[arrow.end():], written, "products")
 
