@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict, dataclass, field
-from fractions import Fraction
 from typing import Any
 
 import numpy as np
@@ -399,6 +398,11 @@ def assess_case(case: Case, library: Library, extra_temperatures: tuple[float, .
     lnK = thermo.lnK(grid)
     data_lo, data_hi = thermo.data_range
 
+    if not (np.all(np.isfinite(dH)) and np.all(np.isfinite(dG)) and np.all(np.isfinite(lnK))):
+        # checked before the equilibrium is solved, which needs a finite ln K
+        raise CaseError([Problem("the thermodynamic data give non-finite values in the "
+                                 "window; check the species data", path,
+                                 case.line_of("temperature"), "temperature")])
     basis_term = _basis_term(case, reaction)
     eq = _equilibrium_system(case, reaction, basis_term)
     rows = []
@@ -414,10 +418,6 @@ def assess_case(case: Case, library: Library, extra_temperatures: tuple[float, .
             q_surr_kJ_mol=float(-dH[i]) / 1e3, conversion=float(res.conversion),
             extrapolated=bool(T < data_lo or T > data_hi),
             requested=float(np.round(T, 9)) in requested))
-    if any(not math.isfinite(v) for r in rows for v in (r.dH_kJ_mol, r.dG_kJ_mol, r.lnK)):
-        raise CaseError([Problem("the thermodynamic data give non-finite values in the "
-                                 "window; check the species data", path,
-                                 case.line_of("temperature"), "temperature")])
 
     # Crossovers: in the window, and across the data range around it.
     scan_lo = min(t_lo, max(data_lo, 200.0))
@@ -490,4 +490,4 @@ def _equilibrium_system(case: Case, reaction: Reaction, basis: Term) -> Equilibr
     return EquilibriumSystem(species, case.pressure, inert_gas)
 
 
-__all__ = ["Assessment", "assess_case", "METHOD_SETTINGS", "CAUTIONS", "Fraction"]
+__all__ = ["Assessment", "assess_case", "METHOD_SETTINGS", "CAUTIONS"]

@@ -15,7 +15,9 @@ stops the build before anything is written.
 """
 from __future__ import annotations
 
+import functools
 import json
+import types
 import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -422,20 +424,33 @@ class BuildReport:
     files: int = 0
     packets: tuple[str, ...] = ()
     notes: tuple[str, ...] = field(default=())
+    unchanged: bool = False  # nothing changed since the site in out_dir was built
+    rendered: int = 0  # units of work done (assessments, pages, packets)
+    reused: int = 0  # units of work taken from the cache
+    corrupt: tuple[str, ...] = ()  # cache entries that failed their digest (rebuilt)
+    seconds: float = 0.0
 
     def lines(self) -> list[str]:
         out = []
         for f in self.failed:
             out.extend(f"error: {p}" for p in f.problems)
         out.extend(f"note: {n}" for n in self.notes)
+        if self.corrupt:
+            out.append(f"note: {len(self.corrupt)} damaged cache entries were ignored and "
+                       f"rebuilt: {', '.join(self.corrupt[:5])}")
         total = len(self.built) + len(self.failed)
-        if not self.written:
+        if not self.written and not self.unchanged:
             out.append(f"strict build: nothing written to {self.out_dir}; {len(self.failed)} of "
                        f"{total} case files have errors")
+        elif self.unchanged:
+            bad = f"; {len(self.failed)} failed (see the errors above)" if self.failed else ""
+            out.append(f"nothing changed: {self.out_dir} is up to date ({len(self.built)} of "
+                       f"{total} cases{bad}; {self.seconds:.2f} s)")
         else:
             bad = f"; {len(self.failed)} failed (see the errors above)" if self.failed else ""
             out.append(f"built {len(self.built)} of {total} cases into {self.out_dir}{bad}: "
-                       f"{self.files} files, {len(self.packets)} PDF packets")
+                       f"{self.files} files, {len(self.packets)} PDF packets; "
+                       f"{self.rendered} made, {self.reused} reused, {self.seconds:.2f} s")
         return out
 
 
@@ -447,44 +462,488 @@ def case_files(cases_dir: Path) -> list[Path]:
     return sorted(p for p in cases_dir.glob("*.md") if p.is_file())
 
 
+# --------------------------------------------------------------------------
+# What each output depends on
+
+@dataclass(frozen=True)
+class BuildSettings:
+    """Digests of everything that is the same for every case of a build."""
+
+    code: str  # tool version and the package's own source files
+    library: str  # the species library data
+    templates: str  # every template, stylesheet and script (and the guide's sources)
+    methods: str  # the method settings
+    packets: bool
+    meeting: str | None
+
+    def parts(self) -> tuple[str, ...]:
+        return (self.code, self.library, self.templates, self.methods,
+                "packets" if self.packets else "no-packets", self.meeting or "")
+
+
+def _tree_digest(root, suffixes: tuple[str, ...] | None = None) -> str:
+    """Digest of the files below an importlib.resources folder (names and bytes, sorted)."""
+    from .cache import key
+
+    parts: list[bytes | str] = []
+    stack = [("", root)]
+    while stack:
+        prefix, node = stack.pop()
+        for child in sorted(node.iterdir(), key=lambda c: c.name):
+            name = prefix + child.name
+            if child.is_dir():
+                if child.name != "__pycache__":
+                    stack.append((name + "/", child))
+            elif suffixes is None or child.name.endswith(suffixes):
+                parts += [name, child.read_bytes()]
+    return key(*parts)
+
+
+def build_settings(packets: bool = True, meeting: str | None = None) -> BuildSettings:
+    """Reads the package's sources, data and templates (fast: no heavy imports)."""
+    from importlib.resources import files
+
+    from . import __version__
+    from .assess import METHOD_SETTINGS
+    from .cache import key
+
+    pkg = files("dossier")
+    docs = _tree_digest(files("dossier.docs")) if _has_package("dossier.docs") else ""
+    return BuildSettings(
+        code=key(__version__, _tree_digest(pkg, (".py",))),
+        library=key(pkg.joinpath("data", "species.json").read_bytes()),
+        templates=key(_tree_digest(files("dossier.templates")), docs),
+        methods=key(repr(sorted(METHOD_SETTINGS.items()))),
+        packets=packets, meeting=meeting)
+
+
+def _has_package(name: str) -> bool:
+    import importlib.util
+
+    try:
+        return importlib.util.find_spec(name) is not None
+    except ImportError:
+        return False
+
+
+def case_key(path: Path, settings: BuildSettings) -> str:
+    """The key of a case's assessment: the case file and every file it draws on.
+
+    The case file's bytes and path; its signatures file and (when it exists)
+    the trusted keys; its kept revisions; the library, the method settings and
+    the code.
+    """
+    from .cache import key
+    from .revisions import archived_revisions
+    from .signing import signatures_path, trusted_keys_path
+
+    parts: list[bytes | str] = ["case", str(path), _read(path)]
+    sig = signatures_path(path)
+    if sig.exists():
+        parts += ["signatures", _read(sig), "trusted", _read(trusted_keys_path(path.parent))]
+    for n, rev in archived_revisions(path):
+        parts += [f"rev-{n}", _read(rev)]
+    return key(*parts, settings.code, settings.library, settings.methods)
+
+
+def _read(path: Path) -> bytes:
+    try:
+        return path.read_bytes()
+    except OSError as err:  # the assessment reports it; the key just has to differ
+        return f"unreadable: {type(err).__name__}".encode()
+
+
+# --------------------------------------------------------------------------
+# Units of work (run in worker processes; each stores its result in the cache)
+
+@dataclass(frozen=True)
+class UnitResult:
+    """Site path → blob digest of the files one unit made, and its notes."""
+
+    files: dict[str, str]
+    problems: tuple[str, ...] = ()
+    failure: CaseFailure | None = None  # the case was left out (not cached)
+
+    def payload(self) -> bytes:
+        return json.dumps({"files": self.files, "problems": list(self.problems)},
+                          sort_keys=True).encode("utf-8")
+
+    @classmethod
+    def from_payload(cls, data: bytes) -> "UnitResult":
+        d = json.loads(data)
+        return cls(dict(d["files"]), tuple(d["problems"]))
+
+
+def _store(cache_root: str, kind: str, unit_key: str, files: Mapping[str, bytes],
+           problems: Sequence[str] = ()) -> UnitResult:
+    from .cache import Cache
+
+    cache = Cache(Path(cache_root))
+    result = UnitResult({p: cache.put_blob(b) for p, b in sorted(files.items())}, tuple(problems))
+    cache.put(kind, unit_key, result.payload())
+    return result
+
+
+def _unit_assess(path: str, unit_key: str, cache_root: str) -> "AssessedCase | CaseFailure":
+    import pickle
+
+    from .cache import Cache
+    from .species import Library
+
+    result = assess_file(Path(path), Library.default())
+    Cache(Path(cache_root)).put("assess", unit_key, pickle.dumps(result, protocol=5))
+    return result
+
+
+def _unit_case(a: AssessedCase, slug: str, species_slugs: list[str], packets: bool,
+               unit_key: str, cache_root: str) -> UnitResult:
+    try:
+        out = case_output(a, slug, species_slugs, packets, _base_files(packets))
+        files = {**out.files, **case_pages(out.view, packets)}
+    except Exception as exc:  # a defect, not bad input: isolate this case
+        return UnitResult({}, (), _render_failure(a, "drawing its figures and packet", exc))
+    return _store(cache_root, "case", unit_key, files, out.problems)
+
+
+def _unit_species(rec: "SpeciesRecord", slug: str, local_to: str | None,
+                  used_by: list[tuple[str, str, str]], unit_key: str, cache_root: str) -> UnitResult:
+    return _store(cache_root, "species", unit_key, species_files(rec, slug, local_to, used_by))
+
+
+def _unit_meeting(date: str, slug: str, members: list[tuple[AssessedCase, str, list[str]]],
+                  unit_key: str, cache_root: str) -> UnitResult:
+    from . import site
+
+    base = _base_files(True)
+    files, outs = dict(base), []
+    for a, case_slug, sp in members:
+        out = case_output(a, case_slug, sp, True, base)
+        files.update(out.files)
+        outs.append(out)
+    m = site.MeetingView(date=date, slug=slug,
+                         cases=tuple(sorted((o.view for o in outs), key=lambda v: v.id)))
+    by_slug = {o.view.slug: o.printed for o in outs}
+    pdf = meeting_pdf(m, [by_slug[c.slug] for c in m.cases], files)
+    return _store(cache_root, "meeting", unit_key, {f"packets/{slug}.pdf": pdf})
+
+
+@functools.lru_cache(maxsize=2)
+def _base_files(packets: bool) -> Mapping[str, bytes]:
+    """base_files, made once per process (immutable: a read-only mapping)."""
+    return types.MappingProxyType(base_files(packets))
+
+
+def light_view(a: AssessedCase, slug: str, species_slugs: Sequence[str]) -> "CaseView":
+    """A case view without figures or derivation: what the register and agendas need."""
+    from .site import CaseView
+
+    c = a.case
+    return CaseView(
+        slug=slug, source_name=a.path.name, assessment=a.assessment, reviews=c.reviews,
+        narrative=c.narrative, inerts=c.inerts, charge=c.charge, vessel=c.vessel,
+        decomposition=c.decomposition, measured=c.measured, species_slugs=tuple(species_slugs),
+        figures=(), derivation=None, derivation_note="", integrity=a.integrity,
+        integrity_note=a.integrity_note or NOT_COMPUTED, decisions=a.decisions)
+
+
+# --------------------------------------------------------------------------
+# Running units: in this process (jobs=1) or in a pool of worker processes
+
+Progress = Callable[[str, int, int], None]  # (phase, done, total)
+
+
+class _Runner:
+    """Runs unit functions in order of submission; results come back in that order."""
+
+    def __init__(self, jobs: int, progress: Progress | None):
+        self.jobs = jobs
+        self.progress = progress
+        self._pool = None
+
+    def _executor(self, n: int):
+        if self._pool is None:
+            import multiprocessing
+            from concurrent.futures import ProcessPoolExecutor
+
+            # forkserver: workers fork from a clean server process that has the
+            # heavy modules imported once (fork from a process with threads,
+            # e.g. `dossier serve`, is unsafe; spawn re-imports per worker)
+            methods = multiprocessing.get_all_start_methods()
+            ctx = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
+            if "forkserver" in methods:
+                ctx.set_forkserver_preload(["dossier.build", "dossier.assess", "dossier.site",
+                                            "dossier.figures", "matplotlib.pyplot"])
+            self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=ctx)
+        return self._pool
+
+    def run(self, phase: str, calls: list[tuple[Callable, tuple]]) -> list:
+        total = len(calls)
+        if self.progress:
+            self.progress(phase, 0, total)
+        if not calls:
+            return []
+        results: list = [None] * total
+        if self.jobs == 1 or total == 1:
+            for i, (fn, args) in enumerate(calls):
+                results[i] = fn(*args)
+                if self.progress:
+                    self.progress(phase, i + 1, total)
+            return results
+        from concurrent.futures import as_completed
+
+        pool = self._executor(total)
+        futures = {pool.submit(fn, *args): i for i, (fn, args) in enumerate(calls)}
+        try:
+            for done, fut in enumerate(as_completed(futures), 1):
+                results[futures[fut]] = fut.result()
+                if self.progress:
+                    self.progress(phase, done, total)
+        except BaseException:
+            for fut in futures:
+                fut.cancel()
+            raise
+        return results
+
+    def close(self) -> None:
+        if self._pool is not None:
+            self._pool.shutdown(wait=True, cancel_futures=True)
+            self._pool = None
+
+
+# --------------------------------------------------------------------------
+# The command
+
+MANIFEST_FORMAT = "dossier-manifest-1"
+
+
+def default_cache_dir(out_dir: Path) -> Path:
+    """``.dossier-cache/`` beside the output folder."""
+    from .cache import DEFAULT_NAME
+
+    return Path(out_dir).expanduser().resolve().parent / DEFAULT_NAME
+
+
+def _check_cache_dir(cache_dir: Path, target: Path, cases_dir: Path) -> Path:
+    from .writer import _is_within
+
+    c = Path(cache_dir).expanduser().resolve()
+    if _is_within(c, target) or _is_within(target, c):
+        raise DossierError(Problem("the cache folder must not be inside the output folder "
+                                   "(or hold it): a build replaces the output folder as a whole",
+                                   str(cache_dir), key="--cache"))
+    if c == Path(cases_dir).expanduser().resolve():
+        raise DossierError(Problem("the cache folder must not be the cases folder",
+                                   str(cache_dir), key="--cache"))
+    return c
+
+
+def _site_intact(target: Path, manifest: Mapping) -> bool:
+    """Every file the manifest lists is in the site with its size."""
+    for rel, size in manifest.get("files", {}).items():
+        try:
+            if (target / rel).stat().st_size != size:
+                return False
+        except OSError:
+            return False
+    return True
+
+
 def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
-               meeting: str | None = None, jobs: int = 1, packets: bool = True) -> BuildReport:
+               meeting: str | None = None, jobs: int = 1, packets: bool = True,
+               cache_dir: Path | None = None, progress: Progress | None = None) -> BuildReport:
     """Assess every case in ``cases_dir`` and publish the site into ``out_dir``.
 
-    ``meeting`` limits the meeting packets to that date (YYYY-MM-DD).
-    ``jobs`` is accepted for parallel builds; cases are processed one after
-    the other for now.  ``packets=False`` leaves the PDF packets out.
+    Each output is made once and kept in the cache (``cache_dir``, default
+    ``.dossier-cache/`` beside ``out_dir``) under the digest of what it
+    depends on, so a rebuild redoes only what changed.  When nothing changed
+    since the site in ``out_dir`` was built, nothing is rendered or written.
+    ``jobs`` > 1 runs the cases in that many worker processes; the site is
+    the same byte for byte whatever the number.  ``meeting`` limits the
+    meeting packets to that date (YYYY-MM-DD); ``packets=False`` leaves the
+    PDF packets out.  ``progress(phase, done, total)`` is told how far it got.
     """
-    from .species import Library
-    from .writer import check_target, write_site
+    import pickle
+    import time
 
+    from . import site
+    from .cache import Cache, key
+    from .writer import check_target, read_manifest, write_site
+
+    start = time.perf_counter()
     if jobs < 1:
         raise DossierError(Problem(f"--jobs must be 1 or more, got {jobs}", key="--jobs"))
     cases_dir, out_dir = Path(cases_dir), Path(out_dir)
     paths = case_files(cases_dir)
-    check_target(out_dir, protected=[cases_dir])  # refuse early, before any work
+    target = check_target(out_dir, protected=[cases_dir])  # refuse early, before any work
+    cache = Cache(_check_cache_dir(cache_dir or default_cache_dir(out_dir), target, cases_dir))
+    root = str(cache.root)
 
-    library = Library.default()
-    assessed: list[AssessedCase] = []
-    failures: list[CaseFailure] = []
-    for p in paths:
-        r = assess_file(p, library)
-        (failures if isinstance(r, CaseFailure) else assessed).append(r)
+    # -- nothing changed? -----------------------------------------------------
+    settings = build_settings(packets, meeting)
+    keys = [case_key(p, settings) for p in paths]
+    build_key = key(MANIFEST_FORMAT, *settings.parts(), "strict" if strict else "",
+                    *(part for p, k in zip(paths, keys) for part in (str(p), k)))
+    previous = read_manifest(target)
+    if previous is not None:
+        try:
+            old = json.loads(previous)
+        except ValueError:
+            old = {}
+        if old.get("key") == build_key and _site_intact(target, old):
+            return BuildReport(
+                cases_dir, out_dir, tuple(old["built"]),
+                tuple(CaseFailure(f, tuple(ps)) for f, ps in old["failed"]), written=False,
+                strict=strict, files=len(old["files"]), packets=tuple(old["packets"]),
+                notes=tuple(old["notes"]), unchanged=True,
+                seconds=time.perf_counter() - start)
 
-    built = tuple(a.case.id for a in assessed)
-    if strict and failures:
-        return BuildReport(cases_dir, out_dir, built, tuple(failures), written=False, strict=True)
+    runner = _Runner(jobs, progress)
+    made = reused = 0
+    try:
+        # -- phase 1: assess (cached per case) ---------------------------------
+        results: list = [None] * len(paths)
+        todo = []
+        for i, (p, k) in enumerate(zip(paths, keys)):
+            data = cache.get("assess", k)
+            if data is not None:
+                try:
+                    results[i] = pickle.loads(data)
+                    reused += 1
+                    continue
+                except Exception:  # written by another version of the classes
+                    cache.stats.corrupt.append(f"assess entry {k[:12]} (unreadable)")
+            todo.append(i)
+        for i, r in zip(todo, runner.run("assess", [(_unit_assess, (str(paths[i]), keys[i], root))
+                                                     for i in todo])):
+            results[i] = r
+        made += len(todo)
+        assessed = [r for r in results if isinstance(r, AssessedCase)]
+        failures = [r for r in results if isinstance(r, CaseFailure)]
+        if strict and failures:
+            return BuildReport(cases_dir, out_dir, tuple(a.case.id for a in assessed),
+                               tuple(failures), written=False, strict=True, rendered=made,
+                               reused=reused, corrupt=tuple(cache.stats.corrupt),
+                               seconds=time.perf_counter() - start)
+        akey = {id(a): k for a, k in zip(results, keys)}
 
-    rendered = render_site(assessed, failures, meeting=meeting, packets=packets)
-    failed = (*failures, *rendered.failed)
-    left_out = {f.file for f in rendered.failed}
-    built = tuple(a.case.id for a in assessed if str(a.path) not in left_out)
-    if strict and rendered.failed:
-        return BuildReport(cases_dir, out_dir, built, failed, written=False, strict=True)
-    result = write_site(out_dir, rendered.files, protected=[cases_dir])
+        # -- phase 2: each case's figures, pages, packet -----------------------
+        layout = site_layout(assessed)
+        case_keys = [key("case", akey[id(a)], layout.case_slug[a.case.id],
+                         *layout.species_slugs(a), *settings.parts()) for a in assessed]
+        units: list[UnitResult | None] = [cached_unit(cache, "case", k) for k in case_keys]
+        todo = [i for i, u in enumerate(units) if u is None]
+        calls = [(_unit_case, (assessed[i], layout.case_slug[assessed[i].case.id],
+                               layout.species_slugs(assessed[i]), packets, case_keys[i], root))
+                 for i in todo]
+        for i, u in zip(todo, runner.run("cases", calls)):
+            units[i] = u
+        made += len(todo)
+        reused += len(units) - len(todo)
+        render_failed = [u.failure for u in units if u.failure is not None]
+        ok = [(a, u, k) for a, u, k in zip(assessed, units, case_keys) if u.failure is None]
+        built = tuple(a.case.id for a, _u, _k in ok)
+        if strict and render_failed:
+            return BuildReport(cases_dir, out_dir, built, (*failures, *render_failed),
+                               written=False, strict=True, rendered=made, reused=reused,
+                               corrupt=tuple(cache.stats.corrupt),
+                               seconds=time.perf_counter() - start)
+
+        linked: dict[str, str] = {}
+        problems: list[str] = []
+        for _a, u, _k in ok:
+            linked.update(u.files)
+            problems.extend(u.problems)
+
+        # -- species pages and meeting packets ---------------------------------
+        used_by = layout.used_by([a for a, _u, _k in ok])
+        sp_calls, sp_keys, sp_units = [], [], []
+        for sk, (_text, rec) in layout.species.items():
+            if sk not in used_by:
+                continue
+            slug = layout.species_slug[sk]
+            local_to = layout.case_slug[sk[1]] if sk[0] == "local" else None
+            rec_digest = (key("library", rec.id) if sk[0] == "library"
+                          else key("local", pickle.dumps(rec, protocol=5)))
+            k = key("species", rec_digest, slug, local_to or "",
+                    json.dumps(used_by[sk]), *settings.parts())
+            u = cached_unit(cache, "species", k)
+            if u is None:
+                sp_calls.append((_unit_species, (rec, slug, local_to, used_by[sk], k, root)))
+            else:
+                sp_units.append(u)
+        views = [light_view(a, layout.case_slug[a.case.id], layout.species_slugs(a))
+                 for a, _u, _k in ok]
+        meetings, meeting_problems = meeting_views(views, meeting)
+        problems.extend(meeting_problems)
+        packet_paths = [f"packets/{v.slug}.pdf" for v in views] if packets else []
+        mt_calls = []
+        if packets:
+            by_slug = {layout.case_slug[a.case.id]: (a, k) for a, _u, k in ok}
+            for m in meetings:
+                members = [by_slug[c.slug] for c in m.cases]
+                k = key("meeting", m.date, m.slug, *(ck for _a, ck in members), *settings.parts())
+                packet_paths.append(f"packets/{m.slug}.pdf")
+                u = cached_unit(cache, "meeting", k)
+                if u is None:
+                    mt_calls.append((_unit_meeting, (m.date, m.slug, [
+                        (a, c.slug, layout.species_slugs(a)) for (a, _k), c in zip(members, m.cases)],
+                        k, root)))
+                else:
+                    sp_units.append(u)
+        fresh = runner.run("pages", sp_calls + mt_calls)
+        made += len(fresh)
+        reused += len(sp_units)
+        for u in [*sp_units, *fresh]:
+            linked.update(u.files)
+            problems.extend(u.problems)
+
+        # -- register, methods, guide, stylesheets (in this process) -------------
+        failed = (*failures, *render_failed)
+        reg_key = key("register", *settings.parts(), *(k for _a, _u, k in ok),
+                      json.dumps([[f.file, list(f.problems)] for f in failed]))
+        u = cached_unit(cache, "register", reg_key)
+        if u is None:
+            made += 1
+            rows = failed_rows(failed)
+            u = _store(root, "register", reg_key, {
+                "index.html": site.render_register(views, rows, meetings, packets).encode("utf-8"),
+                "methods.html": site.render_methods_page().encode("utf-8"),
+                **guide_pages(), **base_files(packets)})
+        else:
+            reused += 1
+        linked.update(u.files)
+    finally:
+        runner.close()
+
+    manifest_files = {rel: cache.blob_path(d).stat().st_size for rel, d in sorted(linked.items())}
+    manifest = json.dumps({
+        "format": MANIFEST_FORMAT, "key": build_key, "built": list(built),
+        "failed": [[f.file, list(f.problems)] for f in failed], "packets": packet_paths,
+        "notes": problems, "files": manifest_files}, indent=1, sort_keys=True).encode("utf-8")
+    result = write_site(out_dir, {}, protected=[cases_dir],
+                        linked={rel: cache.blob_path(d) for rel, d in linked.items()},
+                        manifest=manifest)
     return BuildReport(cases_dir, out_dir, built, failed, written=True, strict=strict,
-                       files=result.files, packets=rendered.packets, notes=rendered.problems)
+                       files=result.files, packets=tuple(packet_paths), notes=tuple(problems),
+                       rendered=made, reused=reused, corrupt=tuple(cache.stats.corrupt),
+                       seconds=time.perf_counter() - start)
 
 
-__all__ = ["AssessedCase", "BuildReport", "CaseFailure", "assess_file", "build_site",
-           "case_view", "reaction_thermo", "render_site"]
+def cached_unit(cache, kind: str, unit_key: str) -> UnitResult | None:
+    """The cached result of a unit when its entry and every blob it names are sound."""
+    data = cache.get(kind, unit_key)
+    if data is None:
+        return None
+    try:
+        u = UnitResult.from_payload(data)
+    except (ValueError, KeyError, TypeError):
+        cache.stats.corrupt.append(f"{kind} entry {unit_key[:12]} (unreadable)")
+        return None
+    if all(cache.blob_ok(d) for d in u.files.values()):
+        return u
+    return None
+
+
+__all__ = ["AssessedCase", "BuildReport", "BuildSettings", "CaseFailure", "assess_file",
+           "build_settings", "build_site", "case_key", "case_view", "default_cache_dir",
+           "reaction_thermo", "render_site"]

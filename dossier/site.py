@@ -38,7 +38,7 @@ from .findings import SEVERITIES
 
 if TYPE_CHECKING:  # pragma: no cover
     from .decisions import CaseDecisions
-    from .assess import Assessment, SpeciesUse
+    from .assess import Assessment
     from .case import Charge, Decomposition, Measured, Review, Vessel
     from .derivation import Segment
     from .figures import Figure

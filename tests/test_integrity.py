@@ -10,7 +10,8 @@ import pytest
 
 from dossier.errors import CaseError, LibraryError, SpeciesError
 from dossier.integrity import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
-                               digest_for_case, short_digest)
+                               check_recorded_reviews, digest_for_case, short_digest,
+                               without_review_tables)
 
 FIXTURES = Path(__file__).parent / "fixtures" / "cases"
 
@@ -258,8 +259,6 @@ def test_integrity_record_is_a_frozen_dataclass():
 
 # --------------------------------------------------------------------------
 # Verdicts recorded in the case file
-
-from dossier.integrity import check_recorded_reviews, digest_for_case, without_review_tables  # noqa: E402
 
 _REVIEWED = b'''+++
 title = "Neutralisation"
