@@ -392,16 +392,18 @@ def assess_case(case: Case, library: Library, extra_temperatures: tuple[float, .
     # Profile
     grid = temperature_grid(t_lo, t_hi, extra_temperatures)
     requested = set(np.round(np.asarray(extra_temperatures, dtype=float), 9).tolist())
-    dH = thermo.dH(grid)
-    dS = thermo.dS(grid)
-    dG = dH - grid * dS
-    lnK = thermo.lnK(grid)
+    with np.errstate(all="ignore"):  # non-finite values are reported just below
+        dH = thermo.dH(grid)
+        dS = thermo.dS(grid)
+        dG = dH - grid * dS
+        lnK = thermo.lnK(grid)
     data_lo, data_hi = thermo.data_range
 
     if not (np.all(np.isfinite(dH)) and np.all(np.isfinite(dG)) and np.all(np.isfinite(lnK))):
         # checked before the equilibrium is solved, which needs a finite ln K
         raise CaseError([Problem("the thermodynamic data give non-finite values in the "
-                                 "window; check the species data", path,
+                                 f"window {t_lo:.6g}-{t_hi:.6g} K; check the temperatures "
+                                 "and the species data", path,
                                  case.line_of("temperature"), "temperature")])
     basis_term = _basis_term(case, reaction)
     eq = _equilibrium_system(case, reaction, basis_term)

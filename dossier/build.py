@@ -205,16 +205,17 @@ class CaseOutput:
 
 
 def case_output(a: AssessedCase, slug: str, species_slugs: Sequence[str], packets: bool,
-                base: Mapping[str, bytes]) -> CaseOutput:
+                base: Mapping[str, bytes], view: "CaseView | None" = None) -> CaseOutput:
     """Figures, formula images, data export and (optionally) the packet of one case.
 
+    ``view`` is the case's view when it is at hand already (from the cache).
     Raises on a defect; the callers turn that into a :class:`CaseFailure`.
     """
     from . import site
     from .figures import formula_svg
     from .packets import lay_out, write_pdf
 
-    v = case_view(a, slug, species_slugs)
+    v = view if view is not None else case_view(a, slug, species_slugs)
     own: dict[str, bytes] = {}
     problems: list[str] = []
     for f in v.figures:
@@ -584,21 +585,61 @@ def _store(cache_root: str, kind: str, unit_key: str, files: Mapping[str, bytes]
     return result
 
 
-def _unit_assess(path: str, unit_key: str, cache_root: str) -> "AssessedCase | CaseFailure":
+def _read_only(d: dict) -> Mapping:
+    return types.MappingProxyType(d)
+
+
+def dumps(obj: object) -> bytes:
+    """Pickle ``obj``; read-only mappings (``Case.header_lines``) are stored as such."""
+    import copyreg
+    import io
     import pickle
 
+    buf = io.BytesIO()
+    pickler = pickle.Pickler(buf, protocol=5)
+    table = copyreg.dispatch_table.copy()
+    table[types.MappingProxyType] = lambda m: (_read_only, (dict(m),))
+    pickler.dispatch_table = table
+    pickler.dump(obj)
+    return buf.getvalue()
+
+
+def _unit_assess(path: str, unit_key: str, cache_root: str) -> bytes:
+    """Assess one case; returns (and caches) the pickled AssessedCase or CaseFailure."""
     from .cache import Cache
     from .species import Library
 
-    result = assess_file(Path(path), Library.default())
-    Cache(Path(cache_root)).put("assess", unit_key, pickle.dumps(result, protocol=5))
-    return result
+    data = dumps(assess_file(Path(path), Library.default()))
+    Cache(Path(cache_root)).put("assess", unit_key, data)
+    return data
 
 
-def _unit_case(a: AssessedCase, slug: str, species_slugs: list[str], packets: bool,
-               unit_key: str, cache_root: str) -> UnitResult:
+def _cached_view(cache_root: str, view_key: str) -> "CaseView | None":
+    import pickle
+
+    from .cache import Cache
+
+    data = Cache(Path(cache_root)).get("view", view_key)
     try:
-        out = case_output(a, slug, species_slugs, packets, _base_files(packets))
+        return pickle.loads(data) if data is not None else None
+    except Exception:  # written by another version of the classes: make it again
+        return None
+
+
+def _unit_case(a: AssessedCase | bytes, slug: str, species_slugs: list[str], packets: bool,
+               unit_key: str, view_key: str, cache_root: str) -> UnitResult:
+    """A case's figures, pages and packet.  Its view (figures and derivation, which do
+    not depend on the templates) is cached on its own under ``view_key``."""
+    import pickle
+
+    from .cache import Cache
+
+    a = pickle.loads(a) if isinstance(a, bytes) else a
+    try:
+        view = _cached_view(cache_root, view_key)
+        out = case_output(a, slug, species_slugs, packets, _base_files(packets), view)
+        if view is None:
+            Cache(Path(cache_root)).put("view", view_key, dumps(out.view))
         files = {**out.files, **case_pages(out.view, packets)}
     except Exception as exc:  # a defect, not bad input: isolate this case
         return UnitResult({}, (), _render_failure(a, "drawing its figures and packet", exc))
@@ -610,14 +651,17 @@ def _unit_species(rec: "SpeciesRecord", slug: str, local_to: str | None,
     return _store(cache_root, "species", unit_key, species_files(rec, slug, local_to, used_by))
 
 
-def _unit_meeting(date: str, slug: str, members: list[tuple[AssessedCase, str, list[str]]],
+def _unit_meeting(date: str, slug: str, members: list[tuple[bytes, str, list[str], str]],
                   unit_key: str, cache_root: str) -> UnitResult:
+    import pickle
+
     from . import site
 
     base = _base_files(True)
     files, outs = dict(base), []
-    for a, case_slug, sp in members:
-        out = case_output(a, case_slug, sp, True, base)
+    for data, case_slug, sp, view_key in members:
+        a = pickle.loads(data)
+        out = case_output(a, case_slug, sp, True, base, _cached_view(cache_root, view_key))
         files.update(out.files)
         outs.append(out)
     m = site.MeetingView(date=date, slug=slug,
@@ -737,6 +781,14 @@ def _check_cache_dir(cache_dir: Path, target: Path, cases_dir: Path) -> Path:
     return c
 
 
+def _drop_new_cache(cache, created_now: bool) -> None:
+    """A strict build that writes nothing leaves no new cache folder behind either."""
+    import shutil
+
+    if created_now:
+        shutil.rmtree(cache.root, ignore_errors=True)
+
+
 def _site_intact(target: Path, manifest: Mapping) -> bool:
     """Every file the manifest lists is in the site with its size."""
     for rel, size in manifest.get("files", {}).items():
@@ -777,6 +829,7 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
     target = check_target(out_dir, protected=[cases_dir])  # refuse early, before any work
     cache = Cache(_check_cache_dir(cache_dir or default_cache_dir(out_dir), target, cases_dir))
     root = str(cache.root)
+    cache_is_new = not cache.root.exists()
 
     # -- nothing changed? -----------------------------------------------------
     settings = build_settings(packets, meeting)
@@ -802,38 +855,45 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
     try:
         # -- phase 1: assess (cached per case) ---------------------------------
         results: list = [None] * len(paths)
+        pickled: list[bytes | None] = [None] * len(paths)
         todo = []
         for i, (p, k) in enumerate(zip(paths, keys)):
             data = cache.get("assess", k)
             if data is not None:
                 try:
                     results[i] = pickle.loads(data)
+                    pickled[i] = data
                     reused += 1
                     continue
                 except Exception:  # written by another version of the classes
                     cache.stats.corrupt.append(f"assess entry {k[:12]} (unreadable)")
             todo.append(i)
-        for i, r in zip(todo, runner.run("assess", [(_unit_assess, (str(paths[i]), keys[i], root))
-                                                     for i in todo])):
-            results[i] = r
+        for i, data in zip(todo, runner.run("assess", [(_unit_assess, (str(paths[i]), keys[i], root))
+                                                        for i in todo])):
+            results[i] = pickle.loads(data)
+            pickled[i] = data
         made += len(todo)
         assessed = [r for r in results if isinstance(r, AssessedCase)]
         failures = [r for r in results if isinstance(r, CaseFailure)]
         if strict and failures:
+            _drop_new_cache(cache, cache_is_new)
             return BuildReport(cases_dir, out_dir, tuple(a.case.id for a in assessed),
                                tuple(failures), written=False, strict=True, rendered=made,
                                reused=reused, corrupt=tuple(cache.stats.corrupt),
                                seconds=time.perf_counter() - start)
         akey = {id(a): k for a, k in zip(results, keys)}
+        apickle = {id(a): d for a, d in zip(results, pickled)}
 
         # -- phase 2: each case's figures, pages, packet -----------------------
         layout = site_layout(assessed)
-        case_keys = [key("case", akey[id(a)], layout.case_slug[a.case.id],
-                         *layout.species_slugs(a), *settings.parts()) for a in assessed]
+        view_keys = {id(a): key("view", akey[id(a)], layout.case_slug[a.case.id],
+                                *layout.species_slugs(a), settings.code) for a in assessed}
+        case_keys = [key("case", view_keys[id(a)], *settings.parts()) for a in assessed]
         units: list[UnitResult | None] = [cached_unit(cache, "case", k) for k in case_keys]
         todo = [i for i, u in enumerate(units) if u is None]
-        calls = [(_unit_case, (assessed[i], layout.case_slug[assessed[i].case.id],
-                               layout.species_slugs(assessed[i]), packets, case_keys[i], root))
+        calls = [(_unit_case, (apickle[id(assessed[i])], layout.case_slug[assessed[i].case.id],
+                               layout.species_slugs(assessed[i]), packets, case_keys[i],
+                               view_keys[id(assessed[i])], root))
                  for i in todo]
         for i, u in zip(todo, runner.run("cases", calls)):
             units[i] = u
@@ -843,6 +903,7 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
         ok = [(a, u, k) for a, u, k in zip(assessed, units, case_keys) if u.failure is None]
         built = tuple(a.case.id for a, _u, _k in ok)
         if strict and render_failed:
+            _drop_new_cache(cache, cache_is_new)
             return BuildReport(cases_dir, out_dir, built, (*failures, *render_failed),
                                written=False, strict=True, rendered=made, reused=reused,
                                corrupt=tuple(cache.stats.corrupt),
@@ -863,7 +924,7 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
             slug = layout.species_slug[sk]
             local_to = layout.case_slug[sk[1]] if sk[0] == "local" else None
             rec_digest = (key("library", rec.id) if sk[0] == "library"
-                          else key("local", pickle.dumps(rec, protocol=5)))
+                          else key("local", dumps(rec)))
             k = key("species", rec_digest, slug, local_to or "",
                     json.dumps(used_by[sk]), *settings.parts())
             u = cached_unit(cache, "species", k)
@@ -886,7 +947,8 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
                 u = cached_unit(cache, "meeting", k)
                 if u is None:
                     mt_calls.append((_unit_meeting, (m.date, m.slug, [
-                        (a, c.slug, layout.species_slugs(a)) for (a, _k), c in zip(members, m.cases)],
+                        (apickle[id(a)], c.slug, layout.species_slugs(a), view_keys[id(a)])
+                        for (a, _k), c in zip(members, m.cases)],
                         k, root)))
                 else:
                     sp_units.append(u)
@@ -947,3 +1009,67 @@ def cached_unit(cache, kind: str, unit_key: str) -> UnitResult | None:
 __all__ = ["AssessedCase", "BuildReport", "BuildSettings", "CaseFailure", "assess_file",
            "build_settings", "build_site", "case_key", "case_view", "default_cache_dir",
            "reaction_thermo", "render_site"]
+
+
+# --------------------------------------------------------------------------
+# `dossier serve`: rebuild what changed when a source changes
+
+#: Files in the cases folder whose change changes the site.
+WATCHED_NAMES = (".md", ".signatures", "trusted-keys.txt")
+
+
+def is_source_change(path: str | Path, cases_dir: Path, template_dirs: Sequence[Path] = ()) -> bool:
+    """True when a changed path is one the site is built from (case files, their
+    signatures and kept revisions, the trusted keys, templates); editor and
+    temporary files (hidden, ``~``) are not."""
+    p = Path(path)
+    if p.name.startswith(".") or p.name.endswith("~"):
+        return False
+    for d in template_dirs:
+        if _inside(p, d):
+            return True
+    return _inside(p, cases_dir) and p.name.endswith(WATCHED_NAMES)
+
+
+def _inside(p: Path, folder: Path) -> bool:
+    try:
+        p.resolve().relative_to(Path(folder).resolve())
+        return True
+    except (ValueError, OSError):
+        return False
+
+
+def rebuild_on_changes(batches, rebuild: Callable[[], BuildReport], cases_dir: Path,
+                       template_dirs: Sequence[Path] = ()):
+    """For each batch of changes (watchfiles' sets of (change, path)) that touches a
+    source, rebuild once; yields the reports.  Other batches are skipped."""
+    for batch in batches:
+        if any(is_source_change(path, cases_dir, template_dirs) for _change, path in batch):
+            yield rebuild()
+
+
+def template_dirs() -> list[Path]:
+    """The folders of the templates (and the guide's sources) on disk, for watching."""
+    from importlib.resources import files
+
+    out = []
+    for pkg in ("dossier.templates", "dossier.docs"):
+        if _has_package(pkg):
+            try:
+                out.append(Path(str(files(pkg))))
+            except (TypeError, ValueError):  # pragma: no cover - zipped install
+                pass
+    return out
+
+
+def site_server(out_dir: Path, port: int = 8000):
+    """An HTTP server for the site on 127.0.0.1 only (call serve_forever in a thread)."""
+    import functools as _ft
+    from http.server import SimpleHTTPRequestHandler, ThreadingHTTPServer
+
+    class Handler(SimpleHTTPRequestHandler):
+        def log_message(self, format, *args):  # noqa: A002 - quiet: the build prints
+            pass
+
+    handler = _ft.partial(Handler, directory=str(Path(out_dir).resolve()))
+    return ThreadingHTTPServer(("127.0.0.1", port), handler)

@@ -32,7 +32,8 @@ from typing import Any, Callable
 
 from .case import (STANDARD_PRESSURE, Case, Charge, Decomposition, LocalSpecies,
                    Measured, Phase, Review, Status, Verdict, Vessel, nearest_line)
-from .errors import CaseError, Problem, UnitError
+from .errors import CaseError, FormulaError, Problem, UnitError
+from .formula import parse_formula
 from .quantities import DIMENSIONS, parse_mass_or_amount, parse_quantity
 
 #: Case-file format versions this code reads.
@@ -717,6 +718,13 @@ def _cross_checks(v: _Validator, top: dict[str, Any]) -> None:
     if isinstance(species, list):
         seen: dict[str, int] = {}
         for index, sp in enumerate(species, start=1):
+            formula = sp.get("formula")
+            if isinstance(formula, str) and formula.strip():
+                try:
+                    parse_formula(formula)
+                except FormulaError as err:
+                    for p in err.problems:
+                        v.problem(f"species[{index}].formula", p.message)
             name = sp.get("name")
             if isinstance(name, str):
                 if name in seen:

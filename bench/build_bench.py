@@ -1,0 +1,306 @@
+"""Benchmark: whole `dossier build` processes on synthetic registers.
+
+    .venv/bin/python bench/build_bench.py [--sizes 10,100,500] [--packets 10]
+                                          [--speedup 10,100] [--floor] [--json FILE]
+
+For each register size N (cases made by bench/synth.py) it times whole
+processes (`python -m dossier.cli build ...`, start-up included):
+
+* cold build with 2 workers (time per case, peak memory of the process tree);
+* cold build with 1 worker, for the speed-up of 2 workers over 1 (sizes in
+  --speedup; both cold builds run in this one invocation);
+* no-op rebuild (median of 3); one case changed; one template changed;
+* a cold build of that one changed case alone, for the one-changed target.
+
+Sizes listed in --packets are built with their PDF packets, the others with
+--no-packets.  --floor compares a cold one-case build with packets against
+weasyprint alone printing the same final packet HTML (both whole processes).
+
+The package is run from a private copy (dossier/, templates/ and docs/ in a
+temporary folder put first on PYTHONPATH) so that the template-change step
+edits the copy, never the project's own templates.  Peak memory is the
+largest sum of resident set sizes over the build's process tree, sampled
+every 20 ms from /proc (shared pages are counted in every process, so this
+over-states the truth a little).
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import threading
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+sys.path.insert(0, str(HERE))
+import synth  # noqa: E402
+
+GIB = 1024 ** 3
+TARGETS = {"noop_s": 2.0, "one_changed_factor": 1.3, "speedup": 1.7, "peak_bytes": GIB,
+           "floor_factor": 1.25}
+
+
+# --------------------------------------------------------------------------
+# Measuring a whole process tree
+
+def _children(pid: int) -> list[int]:
+    out = []
+    try:
+        for tid in os.listdir(f"/proc/{pid}/task"):
+            with open(f"/proc/{pid}/task/{tid}/children") as fh:
+                out.extend(int(c) for c in fh.read().split())
+    except OSError:
+        pass
+    return out
+
+
+def _rss(pid: int) -> int:
+    try:
+        with open(f"/proc/{pid}/statm") as fh:
+            return int(fh.read().split()[1]) * os.sysconf("SC_PAGE_SIZE")
+    except (OSError, IndexError, ValueError):
+        return 0
+
+
+def _tree_rss(pid: int) -> int:
+    total, stack = 0, [pid]
+    while stack:
+        p = stack.pop()
+        total += _rss(p)
+        stack.extend(_children(p))
+    return total
+
+
+def run(cmd: list[str], env: dict, cwd: Path) -> tuple[float, int, str]:
+    """(wall seconds, peak tree RSS in bytes, output) of one whole process."""
+    peak = [0]
+    t0 = time.perf_counter()
+    proc = subprocess.Popen(cmd, env=env, cwd=cwd, stdout=subprocess.PIPE,
+                            stderr=subprocess.STDOUT, text=True)
+    done = threading.Event()
+
+    def sample():
+        while not done.is_set():
+            peak[0] = max(peak[0], _tree_rss(proc.pid))
+            done.wait(0.02)
+
+    sampler = threading.Thread(target=sample, daemon=True)
+    sampler.start()
+    out, _ = proc.communicate()
+    elapsed = time.perf_counter() - t0
+    done.set()
+    sampler.join()
+    if proc.returncode not in (0,):
+        raise SystemExit(f"command failed ({proc.returncode}): {' '.join(cmd)}\n{out[-3000:]}")
+    return elapsed, peak[0], out
+
+
+# --------------------------------------------------------------------------
+# A private copy of the package
+
+def package_copy(dest: Path) -> Path:
+    pkg = dest / "dossier"
+    ignore = shutil.ignore_patterns("__pycache__")
+    shutil.copytree(ROOT / "dossier", pkg, ignore=ignore)
+    shutil.copytree(ROOT / "templates", pkg / "templates", ignore=ignore)
+    if (ROOT / "docs").is_dir():
+        shutil.copytree(ROOT / "docs", pkg / "docs", ignore=ignore)
+    return dest
+
+
+def env_for(pkg_root: Path) -> dict:
+    env = dict(os.environ)
+    env["PYTHONPATH"] = str(pkg_root) + os.pathsep + env.get("PYTHONPATH", "")
+    env.pop("SOURCE_DATE_EPOCH", None)
+    return env
+
+
+def build_cmd(cases: Path, out: Path, cache: Path, jobs: int, packets: bool) -> list[str]:
+    cmd = [sys.executable, "-m", "dossier.cli", "build", str(cases), "--out", str(out),
+           "--cache", str(cache), "--jobs", str(jobs)]
+    return cmd if packets else cmd + ["--no-packets"]
+
+
+# --------------------------------------------------------------------------
+# One register size
+
+def bench_size(n: int, packets: bool, speedup: bool, work: Path, env: dict,
+               pkg_root: Path) -> dict:
+    cases = work / f"cases-{n}"
+    paths = synth.write_cases(n, cases)
+    r: dict = {"n": n, "packets": packets}
+
+    def b(out: str, cache: str, jobs: int = 2, folder: Path = cases):
+        return run(build_cmd(folder, work / out, work / cache, jobs, packets), env, work)
+
+    r["cold_2_s"], r["peak_bytes"], _ = b(f"site-{n}", f"cache-{n}")
+    r["cold_per_case_s"] = r["cold_2_s"] / n
+    if speedup:
+        r["cold_1_s"], r["peak_1_bytes"], _ = b(f"site1-{n}", f"cache1-{n}", jobs=1)
+        r["speedup_2_over_1"] = r["cold_1_s"] / r["cold_2_s"]
+    noops = []
+    for _ in range(3):
+        t, _m, out = b(f"site-{n}", f"cache-{n}")
+        assert "nothing changed" in out, out
+        noops.append(t)
+    r["noop_s"] = statistics.median(noops)
+
+    changed = paths[n // 2]
+    with open(changed, "a", encoding="utf-8") as fh:
+        fh.write("\nA sentence added by the benchmark.\n")
+    r["one_changed_s"], _m, _ = b(f"site-{n}", f"cache-{n}")
+    alone = work / f"alone-{n}"
+    alone.mkdir()
+    shutil.copy(changed, alone / changed.name)
+    r["single_case_cold_s"], _m, _ = b(f"site-alone-{n}", f"cache-alone-{n}", folder=alone)
+    r["one_changed_limit_s"] = TARGETS["one_changed_factor"] * r["single_case_cold_s"] + r["noop_s"]
+
+    template = pkg_root / "dossier" / "templates" / "case.html"
+    with open(template, "a", encoding="utf-8") as fh:
+        fh.write(f"{{# benchmark edit {n} #}}\n")
+    r["template_changed_s"], _m, _ = b(f"site-{n}", f"cache-{n}")
+    return r
+
+
+# --------------------------------------------------------------------------
+# The floor: weasyprint alone on the same final packet HTML
+
+_PREPARE = r"""
+import json, sys
+from pathlib import Path
+from dossier.build import assess_file, base_files, case_output, site_layout, _view_json
+from dossier import site
+from dossier.species import Library
+case, folder = Path(sys.argv[1]), Path(sys.argv[2])
+a = assess_file(case, Library.default())
+layout = site_layout([a])
+slug = layout.case_slug[a.case.id]
+base = base_files(True)
+out = case_output(a, slug, layout.species_slugs(a), False, base)
+files = {**base, **out.files}
+for path, tex in site.print_assets(out.view):
+    if path not in files:
+        from dossier.figures import formula_svg
+        files[path] = formula_svg(tex).encode("utf-8")
+files[f"packets/{slug}.html"] = site.render_case_packet(out.view).encode("utf-8")
+files["attachment.json"] = _view_json(out.view)
+for rel, data in files.items():
+    p = folder / rel
+    p.parent.mkdir(parents=True, exist_ok=True)
+    p.write_bytes(data)
+print(slug)
+"""
+
+_FLOOR = r"""
+import sys
+from pathlib import Path
+from weasyprint import HTML, Attachment
+folder, slug = Path(sys.argv[1]), sys.argv[2]
+page = folder / "packets" / f"{slug}.html"
+doc = HTML(filename=str(page)).render(pdf_variant="pdf/a-3b")
+att = Attachment(string=(folder / "attachment.json").read_bytes(), name="a.json",
+                 description="assessment", relationship="Data")
+(folder / "floor.pdf").write_bytes(doc.write_pdf(pdf_variant="pdf/a-3b", attachments=[att]))
+"""
+
+
+def bench_floor(work: Path, env: dict) -> dict:
+    case = ROOT / "cases" / "nitro-hydrogenation.md"
+    one = work / "floor-case"
+    one.mkdir()
+    shutil.copy(case, one / case.name)
+    times, floors = [], []
+    for i in range(3):
+        t, _m, _ = run(build_cmd(one, work / f"floor-site-{i}", work / f"floor-cache-{i}", 1,
+                                 True), env, work)
+        times.append(t)
+        folder = work / f"floor-html-{i}"
+        folder.mkdir()
+        slug = subprocess.run([sys.executable, "-c", _PREPARE, str(one / case.name), str(folder)],
+                              env=env, cwd=work, check=True, capture_output=True,
+                              text=True).stdout.strip()
+        t, _m, _ = run([sys.executable, "-c", _FLOOR, str(folder), slug], env, work)
+        floors.append(t)
+    build_s, floor_s = statistics.median(times), statistics.median(floors)
+    return {"case": case.name, "build_s": build_s, "weasyprint_alone_s": floor_s,
+            "ratio": build_s / floor_s}
+
+
+# --------------------------------------------------------------------------
+
+def machine() -> dict:
+    model = "unknown"
+    with open("/proc/cpuinfo") as fh:
+        for line in fh:
+            if line.startswith("model name"):
+                model = line.split(":", 1)[1].strip()
+                break
+    with open("/proc/meminfo") as fh:
+        mem_kb = int(fh.readline().split()[1])
+    return {"nproc": os.cpu_count(), "cpu": model, "ram_gib": round(mem_kb / 1024 ** 2, 1),
+            "python": sys.version.split()[0]}
+
+
+def report(r: dict) -> list[str]:
+    kind = "with packets" if r["packets"] else "--no-packets"
+    lines = [f"N={r['n']} ({kind}): cold (2 workers) {r['cold_2_s']:.1f} s = "
+             f"{r['cold_per_case_s']:.2f} s/case; peak memory {r['peak_bytes'] / 2**20:.0f} MiB "
+             f"({'meets' if r['peak_bytes'] < TARGETS['peak_bytes'] else 'MISSES'} < 1 GiB)"]
+    if "speedup_2_over_1" in r:
+        s = r["speedup_2_over_1"]
+        lines.append(f"  cold 1 worker {r['cold_1_s']:.1f} s; speed-up of 2 over 1: {s:.2f}x "
+                     f"({'meets' if s >= TARGETS['speedup'] else 'MISSES'} >= 1.7x)")
+    lines.append(f"  no-op rebuild {r['noop_s']:.2f} s "
+                 f"({'meets' if r['noop_s'] < TARGETS['noop_s'] else 'MISSES'} < 2 s)")
+    ok = r["one_changed_s"] <= r["one_changed_limit_s"]
+    lines.append(f"  one case changed {r['one_changed_s']:.2f} s; single-case cold "
+                 f"{r['single_case_cold_s']:.2f} s; limit 1.3 x single + no-op = "
+                 f"{r['one_changed_limit_s']:.2f} s ({'meets' if ok else 'MISSES'})")
+    lines.append(f"  template changed {r['template_changed_s']:.1f} s")
+    return lines
+
+
+def main() -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--sizes", default="10,100,500")
+    ap.add_argument("--packets", default="10", help="sizes built with PDF packets")
+    ap.add_argument("--speedup", default="10,100", help="sizes also built cold with 1 worker")
+    ap.add_argument("--floor", action="store_true", help="also measure the weasyprint floor")
+    ap.add_argument("--json", default=None, help="append the results as JSON lines to FILE")
+    args = ap.parse_args()
+    sizes = [int(s) for s in args.sizes.split(",") if s]
+    with_packets = {int(s) for s in args.packets.split(",") if s}
+    speedup = {int(s) for s in args.speedup.split(",") if s}
+    print("machine:", json.dumps(machine()))
+    results = []
+    with tempfile.TemporaryDirectory(prefix="dossier-bench-") as tmp:
+        work = Path(tmp)
+        pkg_root = package_copy(work / "pkg")
+        env = env_for(pkg_root)
+        if args.floor:
+            f = bench_floor(work, env)
+            results.append({"floor": f})
+            ok = f["ratio"] <= TARGETS["floor_factor"]
+            print(f"floor ({f['case']}, 1 case with packet): build {f['build_s']:.2f} s, weasyprint "
+                  f"alone {f['weasyprint_alone_s']:.2f} s, ratio {f['ratio']:.2f} "
+                  f"({'meets' if ok else 'MISSES'} <= 1.25)", flush=True)
+        for n in sizes:
+            r = bench_size(n, n in with_packets, n in speedup, work, env, pkg_root)
+            results.append(r)
+            print("\n".join(report(r)), flush=True)
+    if args.json:
+        with open(args.json, "a", encoding="utf-8") as fh:
+            for r in results:
+                fh.write(json.dumps({"machine": machine(), **r}) + "\n")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,231 @@
+"""The build cache (dossier.cache) and incremental rebuilds (dossier.build.build_site)."""
+from __future__ import annotations
+
+import dataclasses
+import os
+import shutil
+import sys
+from pathlib import Path
+
+import pytest
+
+sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
+import harness  # noqa: E402
+
+import dossier.build as build  # noqa: E402
+from dossier.cache import Cache, key  # noqa: E402
+from dossier.errors import DossierError  # noqa: E402
+from dossier.writer import MANIFEST  # noqa: E402
+
+GOOD = ("ammonia.md", "calcination.md", "hydrogenation.md")
+
+
+# --------------------------------------------------------------------------
+# The cache on its own
+
+def test_key_depends_on_every_part_and_their_boundaries():
+    assert key("a", "b") == key("a", "b")
+    assert key("a", "b") != key("ab")
+    assert key("a", "b") != key("b", "a")
+    assert key(b"x") == key("x")
+    assert len(key()) == 64
+
+
+def test_entry_round_trip_and_a_corrupt_entry_is_a_reported_miss(tmp_path):
+    cache = Cache(tmp_path / "c")
+    k = key("unit")
+    assert cache.get("case", k) is None and cache.stats.misses == 1
+    cache.put("case", k, b"payload")
+    assert cache.get("case", k) == b"payload" and cache.stats.hits == 1
+    path = cache.entry_path("case", k)
+    path.write_bytes(path.read_bytes()[:-1] + b"X")  # damage the payload
+    assert cache.get("case", k) is None
+    assert cache.stats.corrupt == [f"case entry {k[:12]}"]
+    path.write_bytes(b"no header at all")
+    assert cache.get("case", k) is None and len(cache.stats.corrupt) == 2
+
+
+def test_blobs_are_named_by_their_digest_and_checked(tmp_path):
+    cache = Cache(tmp_path / "c")
+    d = cache.put_blob(b"<svg/>")
+    assert cache.blob_path(d).read_bytes() == b"<svg/>"
+    assert cache.blob_ok(d) and cache.read_blob(d) == b"<svg/>"
+    cache.blob_path(d).write_bytes(b"<svg>altered</svg>")
+    assert not cache.blob_ok(d) and cache.read_blob(d) is None
+    assert len(cache.stats.corrupt) == 2
+    assert cache.put_blob(b"<svg/>") == d and cache.blob_ok(d)  # rewritten whole
+
+
+def test_cache_writes_leave_no_temporary_files(tmp_path):
+    cache = Cache(tmp_path / "c")
+    cache.put("assess", key("a"), b"1")
+    cache.put_blob(b"2")
+    names = [p.name for p in (tmp_path / "c").rglob("*") if p.is_file()]
+    assert len(names) == 2 and not any(n.startswith(".tmp-") for n in names)
+
+
+def test_bad_entry_names_are_refused(tmp_path):
+    cache = Cache(tmp_path / "c")
+    with pytest.raises(ValueError):
+        cache.entry_path("case", "../../etc/passwd")
+    with pytest.raises(ValueError):
+        cache.blob_path("0" * 63 + "/")
+
+
+# --------------------------------------------------------------------------
+# Incremental builds
+
+@pytest.fixture
+def project(tmp_path):
+    cases = tmp_path / "cases"
+    cases.mkdir()
+    for name in GOOD:
+        shutil.copy(harness.CASES / name, cases / name)
+    return tmp_path
+
+
+def _files(site: Path) -> dict[str, bytes]:
+    return {str(p.relative_to(site)): p.read_bytes() for p in sorted(site.rglob("*"))
+            if p.is_file()}
+
+
+class Calls:
+    """Counts calls of the build's steps (jobs=1 runs them in this process)."""
+
+    def __init__(self, monkeypatch):
+        self.n: dict[str, int] = {}
+        for name in ("assess_file", "case_view", "case_pages", "species_files"):
+            real = getattr(build, name)
+            monkeypatch.setattr(build, name, self._counting(name, real))
+
+    def _counting(self, name, real):
+        def wrapper(*args, **kwargs):
+            self.n[name] = self.n.get(name, 0) + 1
+            return real(*args, **kwargs)
+        return wrapper
+
+    def take(self) -> dict[str, int]:
+        out, self.n = self.n, {}
+        return out
+
+
+def test_default_cache_is_beside_the_output_folder(project):
+    report = build.build_site(project / "cases", project / "site", packets=False)
+    assert report.written and report.reused == 0
+    assert (project / ".dossier-cache" / "entries" / "assess").is_dir()
+    assert (project / "site" / MANIFEST).is_file()
+
+
+def test_a_rebuild_with_nothing_changed_renders_nothing_and_keeps_the_site(project, monkeypatch):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    before = _files(out)
+    inode = os.stat(out).st_ino
+    calls = Calls(monkeypatch)
+    report = build.build_site(cases, out, packets=False)
+    assert report.unchanged and not report.written
+    assert calls.take() == {}
+    assert os.stat(out).st_ino == inode  # not swapped
+    assert _files(out) == before
+    assert report.lines()[-1].startswith(f"nothing changed: {out} is up to date (3 of 3 cases")
+
+
+def test_changing_one_case_redoes_that_case_only(project, monkeypatch):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    before = _files(out)
+    calls = Calls(monkeypatch)
+    with open(cases / "calcination.md", "a", encoding="utf-8") as fh:
+        fh.write("\nOne more sentence for the narrative.\n")
+    report = build.build_site(cases, out, packets=False)
+    done = calls.take()
+    assert report.written and not report.unchanged
+    assert done["assess_file"] == 1 and done["case_view"] == 1 and done["case_pages"] == 1
+    # the species pages show only the slug, id and key of the cases using them:
+    # unchanged by the narrative, so they are reused, not redone
+    assert "species_files" not in done
+    after = _files(out)
+    assert after["cases/ammonia.html"] == before["cases/ammonia.html"]
+    assert after["cases/calcination.html"] != before["cases/calcination.html"]
+    assert report.reused > 0
+
+
+def test_a_template_change_re_renders_pages_but_not_assessments_or_figures(project, monkeypatch):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    real = build.build_settings
+    monkeypatch.setattr(build, "build_settings", lambda *a, **k: dataclasses.replace(
+        real(*a, **k), templates=key("a changed template")))
+    calls = Calls(monkeypatch)
+    report = build.build_site(cases, out, packets=False)
+    done = calls.take()
+    assert report.written
+    assert "assess_file" not in done and "case_view" not in done  # reused from the cache
+    assert done["case_pages"] == 3 and done["species_files"] >= 3
+
+
+def test_a_corrupt_cache_entry_is_rebuilt_and_reported_never_served(project, monkeypatch):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    good = _files(out)
+    cache = project / ".dossier-cache"
+    for entry in (cache / "entries" / "assess").rglob("*"):
+        if entry.is_file():
+            entry.write_bytes(entry.read_bytes().replace(b"ammonia", b"ammonix"))
+    (out / MANIFEST).unlink()  # force a rebuild (the inputs did not change)
+    calls = Calls(monkeypatch)
+    report = build.build_site(cases, out, packets=False)
+    assert calls.take()["assess_file"] >= 1
+    assert report.corrupt and any("assess entry" in c for c in report.corrupt)
+    assert any("damaged cache entries" in line for line in report.lines())
+    after = _files(out)
+    assert {k: v for k, v in after.items() if k != MANIFEST} == \
+        {k: v for k, v in good.items() if k != MANIFEST}
+
+
+def test_a_damaged_blob_is_made_again(project):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    page = out / "cases" / "ammonia.html"
+    good = page.read_bytes()
+    blobs = Cache(project / ".dossier-cache")
+    digest = __import__("hashlib").sha256(good).hexdigest()
+    blob = blobs.blob_path(digest)
+    blob.unlink()
+    blob.write_bytes(b"<p>tampered</p>")
+    # the site's own copy is a separate file now; damage it too so the no-op check sees it
+    page.unlink()
+    page.write_bytes(b"<p>tampered</p>")
+    report = build.build_site(cases, out, packets=False)
+    assert report.written and any(digest[:12] in c for c in report.corrupt)
+    assert (out / "cases" / "ammonia.html").read_bytes() == good
+
+
+def test_a_missing_site_file_means_a_rebuild(project):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    (out / "methods.html").unlink()
+    report = build.build_site(cases, out, packets=False)
+    assert report.written and (out / "methods.html").is_file()
+
+
+def test_the_cache_folder_cannot_be_inside_the_site(project):
+    with pytest.raises(DossierError, match="cache folder must not be inside"):
+        build.build_site(project / "cases", project / "site", packets=False,
+                         cache_dir=project / "site" / "cache")
+    assert not (project / "site").exists()
+
+
+def test_a_signature_or_kept_revision_is_part_of_the_case_key(project):
+    settings = build.build_settings(False)
+    path = project / "cases" / "ammonia.md"
+    k0 = build.case_key(path, settings)
+    (project / "cases" / "ammonia.signatures").write_text("x", encoding="utf-8")
+    k1 = build.case_key(path, settings)
+    (project / "cases" / "trusted-keys.txt").write_text("y", encoding="utf-8")
+    k2 = build.case_key(path, settings)
+    (project / "cases" / "ammonia").mkdir()
+    (project / "cases" / "ammonia" / "rev-1.md").write_text("z", encoding="utf-8")
+    k3 = build.case_key(path, settings)
+    assert len({k0, k1, k2, k3}) == 4
+    assert build.case_key(path, dataclasses.replace(settings, library="other")) != k3
