@@ -699,9 +699,10 @@ Progress = Callable[[str, int, int], None]  # (phase, done, total)
 class _Runner:
     """Runs unit functions in order of submission; results come back in that order."""
 
-    def __init__(self, jobs: int, progress: Progress | None):
+    def __init__(self, jobs: int, progress: Progress | None, packets: bool = False):
         self.jobs = jobs
         self.progress = progress
+        self.packets = packets
         self._pool = None
 
     def _executor(self, n: int):
@@ -715,8 +716,9 @@ class _Runner:
             methods = multiprocessing.get_all_start_methods()
             ctx = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
             if "forkserver" in methods:
-                ctx.set_forkserver_preload(["dossier.build", "dossier.assess", "dossier.site",
-                                            "dossier.figures", "matplotlib.pyplot"])
+                ctx.set_forkserver_preload(
+                    ["dossier.build", "dossier.assess", "dossier.site", "dossier.figures",
+                     "matplotlib.pyplot", *(["weasyprint"] if self.packets else [])])
             self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=ctx)
         return self._pool
 
@@ -841,8 +843,9 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
         try:
             old = json.loads(previous)
         except ValueError:
-            old = {}
-        if old.get("key") == build_key and _site_intact(target, old):
+            old = None
+        if (isinstance(old, dict) and old.get("format") == MANIFEST_FORMAT
+                and old.get("key") == build_key and _site_intact(target, old)):
             return BuildReport(
                 cases_dir, out_dir, tuple(old["built"]),
                 tuple(CaseFailure(f, tuple(ps)) for f, ps in old["failed"]), written=False,
@@ -850,7 +853,7 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
                 notes=tuple(old["notes"]), unchanged=True,
                 seconds=time.perf_counter() - start)
 
-    runner = _Runner(jobs, progress)
+    runner = _Runner(jobs, progress, packets)
     made = reused = 0
     try:
         # -- phase 1: assess (cached per case) ---------------------------------
