@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import ctypes
 import ctypes.util
+import fcntl
 import os
 import shutil
 import tempfile
@@ -145,15 +146,64 @@ def read_manifest(out_dir: Path) -> bytes | None:
         return None
 
 
+def _remove_stale(target: Path) -> int:
+    """Remove temporary folders that an interrupted build left beside ``target``.
+
+    Only called while holding the site's lock, so no running build owns them.
+    """
+    removed = 0
+    for pattern in (f".{target.name}.building-*", f".{target.name}.old-*"):
+        for p in target.parent.glob(pattern):
+            if p.is_dir() and not p.is_symlink():
+                shutil.rmtree(p, ignore_errors=True)
+                removed += 1
+    return removed
+
+
+class _SiteLock:
+    """An exclusive lock on ``.<site>.lock`` beside the site: one writer at a time."""
+
+    def __init__(self, target: Path):
+        self.path = target.parent / f".{target.name}.lock"
+        self.fd: int | None = None
+
+    def __enter__(self) -> "_SiteLock":
+        self.fd = os.open(self.path, os.O_CREAT | os.O_RDWR | getattr(os, "O_NOFOLLOW", 0), 0o644)
+        try:
+            fcntl.flock(self.fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except BlockingIOError:
+            os.close(self.fd)
+            self.fd = None
+            raise OutputError(Problem("another dossier build is writing this site right now; "
+                                      "wait for it to finish", str(self.path.parent / self.path.name[1:-5]),
+                                      key="--out")) from None
+        return self
+
+    def __exit__(self, *exc) -> None:
+        if self.fd is not None:
+            fcntl.flock(self.fd, fcntl.LOCK_UN)
+            os.close(self.fd)
+
+
 def write_site(out_dir: Path, files: Mapping[str, bytes],
                protected: Iterable[Path] = (), linked: Mapping[str, Path] | None = None,
                manifest: bytes | None = None) -> WriteResult:
     """Write ``files`` as the complete new content of ``out_dir``, atomically.
 
-    ``linked`` are further files given as existing files (cache blobs) to
-    hard-link or copy in; ``manifest`` is written as :data:`MANIFEST`.
+    Holds an exclusive lock beside the site while writing, and first removes
+    what an interrupted earlier build left behind.
     """
     target = check_target(out_dir, protected)
+    with _SiteLock(target):
+        _remove_stale(target)
+        return _write_site(target, out_dir, files, protected, linked, manifest)
+
+
+def _write_site(target: Path, out_dir: Path, files: Mapping[str, bytes],
+               protected: Iterable[Path] = (), linked: Mapping[str, Path] | None = None,
+               manifest: bytes | None = None) -> WriteResult:
+    """``linked`` are further files given as existing files (cache blobs) to
+    hard-link or copy in; ``manifest`` is written as :data:`MANIFEST`."""
     linked = dict(linked or {})
     both = set(files) & set(linked)
     if both:
