@@ -161,21 +161,26 @@ def _remove_stale(target: Path) -> int:
 
 
 class _SiteLock:
-    """An exclusive lock on ``.<site>.lock`` beside the site: one writer at a time."""
+    """An exclusive lock on the folder that holds the site: one writer at a time.
+
+    The lock is taken on the parent folder itself (``flock`` on a directory
+    descriptor), so no lock file is left anywhere; it is released when the
+    build ends, however it ends (the kernel drops it with the process).
+    """
 
     def __init__(self, target: Path):
-        self.path = target.parent / f".{target.name}.lock"
+        self.target = target
         self.fd: int | None = None
 
     def __enter__(self) -> "_SiteLock":
-        self.fd = os.open(self.path, os.O_CREAT | os.O_RDWR | getattr(os, "O_NOFOLLOW", 0), 0o644)
+        self.fd = os.open(self.target.parent, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0))
         try:
             fcntl.flock(self.fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
         except BlockingIOError:
             os.close(self.fd)
             self.fd = None
-            raise OutputError(Problem("another dossier build is writing this site right now; "
-                                      "wait for it to finish", str(self.path.parent / self.path.name[1:-5]),
+            raise OutputError(Problem("another dossier build is writing into this folder right "
+                                      "now; wait for it to finish", str(self.target),
                                       key="--out")) from None
         return self
 

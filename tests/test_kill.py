@@ -75,9 +75,7 @@ def temp_folders(folder: Path) -> list[str]:
 
 
 def siblings(out: Path) -> list[str]:
-    """Temporary folders beside the site (the writer's lock file is meant to stay)."""
-    return sorted(n for n in os.listdir(out.parent)
-                  if n.startswith(f".{out.name}.") and n != f".{out.name}.lock")
+    return sorted(n for n in os.listdir(out.parent) if n.startswith(f".{out.name}."))
 
 
 def run_to_end(cmd: list[str]) -> None:
@@ -212,11 +210,15 @@ def test_a_second_writer_is_refused_while_one_holds_the_site(tmp_path):
 
     out = tmp_path / "out"
     write_site(out, {"index.html": b"first"})
-    with open(tmp_path / ".out.lock", "a") as held:
-        fcntl.flock(held.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
+    held = os.open(tmp_path, os.O_RDONLY)  # what a running build holds
+    try:
+        fcntl.flock(held, fcntl.LOCK_EX | fcntl.LOCK_NB)
         with pytest.raises(DossierError) as err:
             write_site(out, {"index.html": b"second"})
-        assert "another dossier build is writing this site right now" in str(err.value)
+        assert "another dossier build is writing into this folder right now" in str(err.value)
+    finally:
+        os.close(held)
     assert (out / "index.html").read_bytes() == b"first"
     write_site(out, {"index.html": b"second"})
     assert (out / "index.html").read_bytes() == b"second"
+    assert siblings(out) == []
