@@ -14,11 +14,10 @@ from __future__ import annotations
 
 import contextlib
 import json
-import math
-import signal
 from collections import Counter
 from pathlib import Path
 
+import fuzzing
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
@@ -43,32 +42,16 @@ FUZZ = settings(max_examples=150, deadline=None, derandomize=True,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
 
 
-class Hang(Exception):
-    pass
-
-
 @contextlib.contextmanager
 def bounded(seconds: int = PER_INPUT_SECONDS):
-    """Fail (raise Hang) if the block runs longer than ``seconds``."""
-    def _alarm(signum, frame):
-        raise Hang(f"input took longer than {seconds} s")
-
-    old = signal.signal(signal.SIGALRM, _alarm)
-    signal.alarm(seconds)
-    try:
+    with fuzzing.bounded(seconds):
         yield
-    finally:
-        signal.alarm(0)
-        signal.signal(signal.SIGALRM, old)
 
 
 @pytest.fixture(scope="module", autouse=True)
 def report_inputs_tried():
-    """Print the number of inputs tried per target at the end (visible with -s)."""
     yield
-    for target, n in sorted(TRIED.items()):
-        print(f"\nfuzz inputs tried: {target}: {n}", end="")
-    print(f"\nfuzz inputs tried in {__name__}: {sum(TRIED.values())}")
+    fuzzing.report(TRIED, __name__)
 
 
 @pytest.fixture(scope="module")

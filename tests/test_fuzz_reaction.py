@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import contextlib
 import json
-import signal
 from collections import Counter
 from fractions import Fraction
 
+import fuzzing
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
@@ -32,24 +32,14 @@ FUZZ = settings(max_examples=300, deadline=None, derandomize=True,
 
 @contextlib.contextmanager
 def bounded(seconds: int = PER_INPUT_SECONDS):
-    def _alarm(signum, frame):
-        raise TimeoutError(f"input took longer than {seconds} s")
-
-    old = signal.signal(signal.SIGALRM, _alarm)
-    signal.alarm(seconds)
-    try:
+    with fuzzing.bounded(seconds):
         yield
-    finally:
-        signal.alarm(0)
-        signal.signal(signal.SIGALRM, old)
 
 
 @pytest.fixture(scope="module", autouse=True)
 def report_inputs_tried():
     yield
-    for target, n in sorted(TRIED.items()):
-        print(f"\nfuzz inputs tried: {target}: {n}", end="")
-    print(f"\nfuzz inputs tried in {__name__}: {sum(TRIED.values())}")
+    fuzzing.report(TRIED, __name__)
 
 
 @pytest.fixture(scope="module")
