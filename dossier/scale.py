@@ -91,6 +91,31 @@ def _is_screened(rec: SpeciesRecord) -> bool:
     return "N" in comp or any(x in comp for x in ("Cl", "Br", "I"))
 
 
+def entropy_reading(s_sys: float, s_surr: float) -> str:
+    """The sign of the universe's entropy change, said in words."""
+    s_univ = s_sys + s_surr
+    if s_sys < 0 < s_surr:
+        how = ("the surroundings gain more entropy from the heat released than the system "
+               "loses" if s_univ > 0 else
+               "the entropy the surroundings gain from the heat released does not make up for "
+               "what the system loses")
+    elif s_surr < 0 < s_sys:
+        how = ("the system gains more entropy than the surroundings lose by supplying the heat"
+               if s_univ > 0 else
+               "the system gains less entropy than the surroundings lose by supplying the heat")
+    elif s_univ > 0:
+        how = "system and surroundings both gain entropy"
+    else:
+        how = "system and surroundings both lose entropy"
+    if s_univ > 0:
+        return (f"positive: {how}, so the reaction runs spontaneously at standard state at the "
+                "process temperature (the same verdict as ΔG° < 0)")
+    if s_univ < 0:
+        return (f"negative: {how}, so the reaction does not run spontaneously at standard state "
+                "at the process temperature (the same verdict as ΔG° > 0)")
+    return "zero: the reaction is at equilibrium at standard state (ΔG° = 0)"
+
+
 def assess_safety(case: "Case", reaction: "Reaction",
                   resolved: list[tuple["Term", SpeciesRecord, bool, bool]],
                   thermo: ReactionThermo, basis: "Term", library: Library) -> "Safety":
@@ -131,16 +156,7 @@ def assess_safety(case: "Case", reaction: "Reaction",
         s_sys = n_rxn * dS_comp
         s_surr = -n_rxn * dH_comp / T_p
         s_univ = s_sys + s_surr
-        if s_univ > 0:
-            reading = ("positive: the entropy the surroundings gain from the heat (or lose to "
-                       "it) outweighs the system's change, so the reaction runs spontaneously at "
-                       "standard state at the process temperature (the same verdict as ΔG° < 0)")
-        elif s_univ < 0:
-            reading = ("negative: the total entropy would fall, so the reaction does not run "
-                       "spontaneously at standard state at the process temperature (the same "
-                       "verdict as ΔG° > 0)")
-        else:
-            reading = "zero: the reaction is at equilibrium at standard state (ΔG° = 0)"
+        reading = entropy_reading(s_sys, s_surr)
         rate_kW = (heat_J / ch.feed_time / 1e3) if ch.feed_time else None
         scale = ScaleFigures(
             basis=basis.key, basis_mol=n_basis, reaction_mol=n_rxn,

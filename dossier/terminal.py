@@ -64,7 +64,9 @@ def render_assessment(a: Assessment) -> str:
         out.append(f"  criticality class        {s.criticality_class or 'not assessed'}")
         out.append(f"  after decomposition      {_T(s.final_temperature_K) if s.final_temperature_K else 'not assessed'}")
         out.append(f"  cooling margin           {_opt(s.cooling_margin_kW, '.1f', 'kW')}")
-        out.append(f"  pressure at MTSR         {_opt(s.pressure_at_mtsr_bar, '.2f', 'bar')}")
+        no_gas = sc is not None and sc.gas_mol <= 0
+        out.append("  pressure at MTSR         " + ("no gas released" if no_gas else
+                                                    _opt(s.pressure_at_mtsr_bar, '.2f', 'bar')))
         for fig, miss in s.not_assessed:
             out.append(f"  not assessed: {fig} — needs {', '.join(miss)}")
         for n in s.notes:

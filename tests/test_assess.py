@@ -252,3 +252,18 @@ def test_no_gas_released_means_no_gas_figures_to_ask_for():
     figures = [f for f, _ in a.safety.not_assessed]
     assert "gas pressure" not in figures and a.safety.pressure_at_mtsr_bar is None
     assert any(n.startswith("the reaction releases no gas") for n in a.safety.notes)
+
+
+@pytest.mark.parametrize("s_sys,s_surr,start", [
+    (-1.0, 3.0, "positive: the surroundings gain more entropy from the heat released than the system loses"),
+    (-3.0, 1.0, "negative: the entropy the surroundings gain from the heat released does not make up"),
+    (3.0, -1.0, "positive: the system gains more entropy than the surroundings lose"),
+    (1.0, -3.0, "negative: the system gains less entropy than the surroundings lose"),
+    (1.0, 1.0, "positive: system and surroundings both gain entropy"),
+])
+def test_entropy_reading_in_words(s_sys, s_surr, start):
+    from dossier.scale import entropy_reading
+
+    # the sign rule ΔS_univ = ΔS_sys + ΔS_surr > 0 for a spontaneous change
+    # (second law; common practice, no source)
+    assert entropy_reading(s_sys, s_surr).startswith(start)
