@@ -149,7 +149,21 @@ def verify(cases_dir: Path) -> None:
         click.echo(f"warning: {keys_file} does not exist; no signature can be valid.", err=True)
 
     results: list[tuple[str, ReviewStatus]] = []
+    recorded: list[tuple[str, integrity.RecordedReview]] = []
     bad_input = False
+    digests: dict[Path, tuple] = {}  # each case's digest is computed once
+
+    def digest_of(case_file: Path) -> tuple:
+        if case_file not in digests:
+            digests[case_file] = integrity.digest_for_case(case_file)
+        return digests[case_file]
+
+    def report(err: DossierError) -> None:
+        nonlocal bad_input
+        bad_input = True
+        for problem in err.problems:
+            click.echo(f"error: {problem}", err=True)
+
     for sig_file in sorted(cases_dir.glob("*" + SIGNATURES_SUFFIX)):
         case_id = sig_file.name[:-len(SIGNATURES_SUFFIX)]
         case_file = sig_file.with_name(case_id + ".md")
@@ -158,18 +172,15 @@ def verify(cases_dir: Path) -> None:
             if not case_file.exists():
                 raise SignatureError(Problem(f"there is no case file {case_file} for these "
                                              "signatures", str(sig_file)))
-            record, revision, _ = integrity.digest_for_case(case_file)
+            record, revision, _ = digest_of(case_file)
         except DossierError as err:
-            bad_input = True
-            for problem in err.problems:
-                click.echo(f"error: {problem}", err=True)
+            report(err)
             continue
         results += [(case_id, s) for s in
                     verify_reviews(reviews, trusted, record.digest, revision, case_id=case_id)]
 
     # Verdicts recorded in the case files' [[review]] tables name the digest
     # they accepted; a case changed since then is reported the same way.
-    recorded: list[tuple[str, integrity.RecordedReview]] = []
     from .casefile import load_case
 
     for case_file in sorted(cases_dir.glob("*.md")):
@@ -177,11 +188,9 @@ def verify(cases_dir: Path) -> None:
             case = load_case(case_file)
             if not case.reviews:
                 continue
-            record, _revision, _ = integrity.digest_for_case(case_file)
+            record, _revision, _ = digest_of(case_file)
         except DossierError as err:
-            bad_input = True
-            for problem in err.problems:
-                click.echo(f"error: {problem}", err=True)
+            report(err)
             continue
         recorded += [(case.id, r) for r in integrity.check_recorded_reviews(case.reviews, record.digest)]
 

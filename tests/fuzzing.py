@@ -10,8 +10,11 @@ class Hang(Exception):
     """An input took longer than its bound: the code under test hung."""
 
 
+PER_INPUT_SECONDS = 20
+
+
 @contextlib.contextmanager
-def bounded(seconds: int):
+def bounded(seconds: int = PER_INPUT_SECONDS):
     """Fail (raise Hang) if the block runs longer than ``seconds``."""
     def _alarm(signum, frame):
         raise Hang(f"input took longer than {seconds} s")

@@ -12,12 +12,12 @@ test (run with ``-s`` to see them).
 """
 from __future__ import annotations
 
-import contextlib
 import json
 from collections import Counter
 from pathlib import Path
 
 import fuzzing
+from fuzzing import bounded
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
@@ -36,16 +36,9 @@ HOSTILE = FIXTURES / "hostile"
 TRIED: Counter = Counter()
 
 #: Seconds one input may take before the test fails as a hang.
-PER_INPUT_SECONDS = 20
 
 FUZZ = settings(max_examples=150, deadline=None, derandomize=True,
                 suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large])
-
-
-@contextlib.contextmanager
-def bounded(seconds: int = PER_INPUT_SECONDS):
-    with fuzzing.bounded(seconds):
-        yield
 
 
 @pytest.fixture(scope="module", autouse=True)

@@ -8,12 +8,12 @@ fails the test.  Inputs tried are printed at the end of the module (-s).
 """
 from __future__ import annotations
 
-import contextlib
 import json
 from collections import Counter
 from fractions import Fraction
 
 import fuzzing
+from fuzzing import bounded
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
@@ -25,15 +25,8 @@ from dossier.reaction import MAX_TERMS, Reaction, check_balance, parse_reaction
 from dossier.species import Library
 
 TRIED: Counter = Counter()
-PER_INPUT_SECONDS = 20
 FUZZ = settings(max_examples=300, deadline=None, derandomize=True,
                 suppress_health_check=[HealthCheck.too_slow])
-
-
-@contextlib.contextmanager
-def bounded(seconds: int = PER_INPUT_SECONDS):
-    with fuzzing.bounded(seconds):
-        yield
 
 
 @pytest.fixture(scope="module", autouse=True)
