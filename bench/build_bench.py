@@ -4,7 +4,7 @@
                                           [--speedup 10,100] [--floor] [--json FILE]
 
 For each register size N (cases made by bench/synth.py) it times whole
-processes (`python -m dossier.cli build ...`, start-up included):
+processes (`python -m dossier.cli.main build ...`, start-up included):
 
 * cold build with 2 workers (time per case, peak memory of the process tree);
 * cold build with 1 worker, for the speed-up of 2 workers over 1 (sizes in
@@ -123,7 +123,7 @@ def env_for(pkg_root: Path) -> dict:
 
 
 def build_cmd(cases: Path, out: Path, cache: Path, jobs: int, packets: bool) -> list[str]:
-    cmd = [sys.executable, "-m", "dossier.cli", "build", str(cases), "--out", str(out),
+    cmd = [sys.executable, "-m", "dossier.cli.main", "build", str(cases), "--out", str(out),
            "--cache", str(cache), "--jobs", str(jobs)]
     return cmd if packets else cmd + ["--no-packets"]
 
@@ -175,9 +175,9 @@ def bench_size(n: int, packets: bool, speedup: bool, work: Path, env: dict,
 _PREPARE = r"""
 import json, sys
 from pathlib import Path
-from dossier.build import assess_file, base_files, case_output, site_layout, _view_json
-from dossier import site
-from dossier.species import Library
+from dossier.build.pipeline import assess_file, base_files, case_output, site_layout, _view_json
+from dossier.render import pages as site
+from dossier.library.lookup import Library
 case, folder = Path(sys.argv[1]), Path(sys.argv[2])
 a = assess_file(case, Library.default())
 layout = site_layout([a])
@@ -187,7 +187,7 @@ out = case_output(a, slug, layout.species_slugs(a), False, base)
 files = {**base, **out.files}
 for path, tex in site.print_assets(out.view):
     if path not in files:
-        from dossier.figures import formula_svg
+        from dossier.render.figures import formula_svg
         files[path] = formula_svg(tex).encode("utf-8")
 files[f"packets/{slug}.html"] = site.render_case_packet(out.view).encode("utf-8")
 files["attachment.json"] = _view_json(out.view)

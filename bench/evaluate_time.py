@@ -18,7 +18,7 @@ ROOT = os.path.dirname(HERE)
 def main() -> int:
     case = sys.argv[1] if len(sys.argv) > 1 else os.path.join(ROOT, "tests", "fixtures", "cases", "full.md")
     exe = os.path.join(os.path.dirname(sys.executable), "dossier")
-    cmd = [exe, "evaluate", case] if os.path.exists(exe) else [sys.executable, "-m", "dossier.cli", "evaluate", case]
+    cmd = [exe, "evaluate", case] if os.path.exists(exe) else [sys.executable, "-m", "dossier.cli.main", "evaluate", case]
     subprocess.run(cmd, check=True, capture_output=True)  # warm the file cache and pint's cache
     times = []
     for _ in range(7):

@@ -14,7 +14,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 
 
 def main() -> int:
-    from dossier.species import Library
+    from dossier.library.lookup import Library
 
     path = os.path.join(os.path.dirname(__file__), "..", "dossier", "data", "species.json")
     raw = open(path, "rb").read()

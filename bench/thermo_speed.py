@@ -20,8 +20,8 @@ sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 def main() -> int:
     import cantera as ct
 
-    from dossier.species import Library
-    from dossier.thermo import ReactionThermo
+    from dossier.library.lookup import Library
+    from dossier.engine.thermo import ReactionThermo
 
     lib = Library.default()
     terms = [(-1.0, "CH4", "g"), (-2.0, "O2", "g"), (1.0, "CO2", "g"), (2.0, "H2O", "g")]

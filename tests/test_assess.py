@@ -8,10 +8,10 @@ from pathlib import Path
 
 import pytest
 
-from dossier.assess import assess_case
-from dossier.casefile import load_case, parse_case_text
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import load_case, parse_case_text
 from dossier.errors import CaseError
-from dossier.species import Library
+from dossier.library.lookup import Library
 
 FIXTURES = Path(__file__).parent / "fixtures" / "cases"
 LIB = Library.default()
@@ -197,7 +197,7 @@ def test_unbalanced_reaction_is_located():
 # The command line
 
 def run_cli(*args: str) -> subprocess.CompletedProcess:
-    return subprocess.run([sys.executable, "-m", "dossier.cli", *args], capture_output=True,
+    return subprocess.run([sys.executable, "-m", "dossier.cli.main", *args], capture_output=True,
                           text=True)
 
 
@@ -262,7 +262,7 @@ def test_no_gas_released_means_no_gas_figures_to_ask_for():
     (1.0, 1.0, "positive: system and surroundings both gain entropy"),
 ])
 def test_entropy_reading_in_words(s_sys, s_surr, start):
-    from dossier.scale import entropy_reading
+    from dossier.assess.batch import entropy_reading
 
     # the sign rule ΔS_univ = ΔS_sys + ΔS_surr > 0 for a spontaneous change
     # (second law; common practice, no source)

@@ -1,4 +1,4 @@
-"""The build cache (dossier.cache) and incremental rebuilds (dossier.build.build_site)."""
+"""The build cache (dossier.build.cache) and incremental rebuilds (dossier.build.pipeline.build_site)."""
 from __future__ import annotations
 
 import dataclasses
@@ -12,10 +12,10 @@ import pytest
 sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
 import harness  # noqa: E402
 
-import dossier.build as build  # noqa: E402
-from dossier.cache import Cache, key  # noqa: E402
+import dossier.build.pipeline as build  # noqa: E402
+from dossier.build.cache import Cache, key  # noqa: E402
 from dossier.errors import DossierError  # noqa: E402
-from dossier.writer import MANIFEST  # noqa: E402
+from dossier.build.writer import MANIFEST  # noqa: E402
 
 GOOD = ("ammonia.md", "calcination.md", "hydrogenation.md")
 

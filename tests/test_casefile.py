@@ -10,8 +10,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from dossier.case import Case, Phase, Status, Verdict
-from dossier.casefile import MAX_FILE_BYTES, SCHEMA, load_case, locate_keys, parse_case_text
+from dossier.model.case import Case, Phase, Status, Verdict
+from dossier.casefile.load import MAX_FILE_BYTES, SCHEMA, load_case, locate_keys, parse_case_text
 from dossier.errors import CaseError
 
 ROOT = Path(__file__).resolve().parent.parent

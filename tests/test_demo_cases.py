@@ -16,12 +16,12 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from dossier.assess import assess_case
-from dossier.case import Status, Verdict
-from dossier.casefile import load_case
-from dossier.cli import main
-from dossier.newcase import check_case_id
-from dossier.species import Library
+from dossier.assess.evaluate import assess_case
+from dossier.model.case import Status, Verdict
+from dossier.casefile.load import load_case
+from dossier.cli.main import main
+from dossier.casefile.template import check_case_id
+from dossier.library.lookup import Library
 
 ROOT = Path(__file__).resolve().parent.parent
 CASES = ROOT / "cases"
@@ -248,7 +248,7 @@ def test_dinitration_product_is_screened_as_energetic(register):
     assert dnb.oxygen_balance_pct is not None and dnb.oxygen_balance_pct < 0
     assert dnb.max_decomposition_J_per_g > 500
     assert any("m-dinitrobenzene" in f.text for f in findings(a, "energetic-species"))
-    from dossier.energetics import toolkit_available
+    from dossier.engine.energetics import toolkit_available
 
     if toolkit_available():
         assert dnb.explosophores  # from the SMILES in the case file

@@ -6,9 +6,9 @@ import math
 import numpy as np
 import pytest
 
-from dossier.derivation import derive
-from dossier.species import ConstantCp, Library
-from dossier.thermo import ReactionThermo, temperature_grid
+from dossier.engine.derivation import derive
+from dossier.library.lookup import ConstantCp, Library
+from dossier.engine.thermo import ReactionThermo, temperature_grid
 
 LIB = Library.default()
 

@@ -1,4 +1,4 @@
-"""Energetic-material screening (dossier.energetics) against published
+"""Energetic-material screening (dossier.engine.energetics) against published
 values and the published screening method.
 
 Every check value carries its source in a comment.  Abbreviations used
@@ -23,8 +23,8 @@ from __future__ import annotations
 import pytest
 from hypothesis import assume, given, settings, strategies as st
 
-from dossier import energetics
-from dossier.energetics import (
+from dossier.engine import energetics
+from dossier.engine.energetics import (
     Component,
     GroupCheck,
     GroupHit,
@@ -36,8 +36,8 @@ from dossier.energetics import (
     un_screening,
 )
 from dossier.errors import CaseError, FormulaError, SpeciesError
-from dossier.formula import parse_formula
-from dossier.safety import gas_volume_normal
+from dossier.chem.formula import parse_formula
+from dossier.engine.safety import gas_volume_normal
 
 # Enthalpies of formation at 298.15 K, J/mol
 HF_CO2_G = -393.51e3    # CODATA 1989

@@ -13,9 +13,9 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from dossier.equilibrium import EqSpecies, EquilibriumSystem
-from dossier.species import Library
-from dossier.thermo import R, ReactionThermo
+from dossier.engine.equilibrium import EqSpecies, EquilibriumSystem
+from dossier.library.lookup import Library
+from dossier.engine.thermo import R, ReactionThermo
 
 LIB = Library.default()
 

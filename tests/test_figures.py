@@ -8,9 +8,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from dossier import figures
-from dossier.build import assess_file
-from dossier.species import Library
+from dossier.render import figures
+from dossier.build.pipeline import assess_file
+from dossier.library.lookup import Library
 
 sys.path.insert(0, str(Path(__file__).parent))
 from fixtures.site import harness  # noqa: E402
@@ -137,7 +137,7 @@ def test_species_figure_tabulates_the_model(calcination):
 def test_matplotlib_is_only_imported_by_the_figures_module():
     import subprocess
 
-    code = ("import sys; import dossier.build, dossier.site, dossier.packets, dossier.writer; "
+    code = ("import sys; import dossier.build.pipeline, dossier.render.pages, dossier.render.packets, dossier.build.writer; "
             "print('matplotlib' in sys.modules, 'weasyprint' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout.split()

@@ -5,9 +5,9 @@ from fractions import Fraction
 
 import pytest
 
-from dossier.elements import ATOMIC_WEIGHTS
+from dossier.chem.elements import ATOMIC_WEIGHTS
 from dossier.errors import FormulaError
-from dossier.formula import hill_formula, parse_formula
+from dossier.chem.formula import hill_formula, parse_formula
 
 chemicals_elements = pytest.importorskip("chemicals.elements")  # test-only reference
 

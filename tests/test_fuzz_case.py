@@ -21,11 +21,11 @@ from fuzzing import bounded
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
-from dossier.assess import assess_case
-from dossier.casefile import MAX_FILE_BYTES, load_case, parse_case_text
-from dossier.case import Case
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import MAX_FILE_BYTES, load_case, parse_case_text
+from dossier.model.case import Case
 from dossier.errors import DossierError
-from dossier.species import Library
+from dossier.library.lookup import Library
 
 FIXTURES = Path(__file__).parent / "fixtures"
 FULL = (FIXTURES / "cases" / "full.md").read_text(encoding="utf-8")

@@ -17,12 +17,12 @@ from fuzzing import bounded
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
-from dossier.assess import assess_case
-from dossier.casefile import parse_case_text
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import parse_case_text
 from dossier.errors import DossierError
-from dossier.formula import parse_formula
-from dossier.reaction import MAX_TERMS, Reaction, check_balance, parse_reaction
-from dossier.species import Library
+from dossier.chem.formula import parse_formula
+from dossier.chem.reaction import MAX_TERMS, Reaction, check_balance, parse_reaction
+from dossier.library.lookup import Library
 
 TRIED: Counter = Counter()
 FUZZ = settings(max_examples=300, deadline=None, derandomize=True,

@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 
 from dossier.errors import CaseError, LibraryError, SpeciesError
-from dossier.integrity import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
+from dossier.review.digest import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
                                check_recorded_reviews, digest_for_case, short_digest,
                                without_review_tables)
 
@@ -138,7 +138,7 @@ def _set(record, path, new):
 
 @pytest.mark.parametrize("which", ["invented", "library"])
 def test_every_change_to_a_species_record_value_changes_the_digest(which):
-    from dossier.species import Library
+    from dossier.library.lookup import Library
 
     record = RECORD if which == "invented" else Library.default().resolve("H2O", "l").to_dict()
     original = _digest(records=(record, OTHER))
@@ -302,7 +302,7 @@ def test_review_tables_do_not_enter_the_digest(tmp_path):
 def test_recorded_verdict_matches_then_flags_a_change(tmp_path):
     record, _, _ = digest_for_case(_write(tmp_path))
     path = _write(tmp_path, record.digest)
-    from dossier.casefile import load_case
+    from dossier.casefile.load import load_case
 
     case = load_case(path)
     again, _, _ = digest_for_case(path)
@@ -323,7 +323,7 @@ def test_recorded_verdict_matches_then_flags_a_change(tmp_path):
 def test_verify_exits_1_when_a_recorded_verdict_no_longer_matches(tmp_path):
     from click.testing import CliRunner
 
-    from dossier.cli import main
+    from dossier.cli.main import main
 
     record, _, _ = digest_for_case(_write(tmp_path))
     path = _write(tmp_path, record.digest)

@@ -1,6 +1,6 @@
 """Interrupted builds: SIGKILL at random moments never leaves a broken site.
 
-A build runs in a subprocess (``python -m dossier.cli build ... --no-packets``
+A build runs in a subprocess (``python -m dossier.cli.main build ... --no-packets``
 when the command has that option; otherwise the same ``build_site`` call
 without packets through a two-line driver, which keeps each build to a few
 seconds).  It is killed with SIGKILL:
@@ -39,20 +39,20 @@ SEED = 20261202
 UNIFORM_KILLS = 6
 WRITE_PHASE_KILLS = 4
 
-_DRIVER = ("import sys; from dossier.build import build_site; "
+_DRIVER = ("import sys; from dossier.build.pipeline import build_site; "
            "r = build_site(sys.argv[1], sys.argv[2], packets=False); "
            "print('\\n'.join(r.lines())); sys.exit(2 if r.failed else 0)")
 
 
 def _has_no_packets_option() -> bool:
-    out = subprocess.run([sys.executable, "-m", "dossier.cli", "build", "--help"],
+    out = subprocess.run([sys.executable, "-m", "dossier.cli.main", "build", "--help"],
                          capture_output=True, text=True, cwd=ROOT, timeout=120)
     return "--no-packets" in out.stdout
 
 
 def _command(cases: Path, out: Path, cli: bool) -> list[str]:
     if cli:
-        return [sys.executable, "-m", "dossier.cli", "build", str(cases), "--out", str(out),
+        return [sys.executable, "-m", "dossier.cli.main", "build", str(cases), "--out", str(out),
                 "--no-packets"]
     return [sys.executable, "-c", _DRIVER, str(cases), str(out)]
 
@@ -186,7 +186,7 @@ def test_sigkill_never_breaks_the_previous_site(workspace):
 
 
 def test_next_build_cleans_a_leftover_sibling_temp_folder(tmp_path):
-    from dossier.build import build_site
+    from dossier.build.pipeline import build_site
 
     cases = tmp_path / "cases"
     cases.mkdir()
@@ -206,7 +206,7 @@ def test_a_second_writer_is_refused_while_one_holds_the_site(tmp_path):
     import fcntl
 
     from dossier.errors import DossierError
-    from dossier.writer import write_site
+    from dossier.build.writer import write_site
 
     out = tmp_path / "out"
     write_site(out, {"index.html": b"first"})

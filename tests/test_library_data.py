@@ -12,8 +12,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from dossier.formula import hill_formula, parse_formula
-from dossier.species import PHASES, Library, _default_library
+from dossier.chem.formula import hill_formula, parse_formula
+from dossier.library.lookup import PHASES, Library, _default_library
 
 ROOT = Path(__file__).resolve().parents[1]
 DATA = resources.files("dossier").joinpath("data/species.json")

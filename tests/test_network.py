@@ -53,7 +53,7 @@ def test_the_trap_works(no_network):
 
 
 def test_full_build_with_packets_opens_no_connection(tmp_path, no_network):
-    from dossier.build import build_site
+    from dossier.build.pipeline import build_site
 
     cases = tmp_path / "cases"
     cases.mkdir()
@@ -66,7 +66,7 @@ def test_full_build_with_packets_opens_no_connection(tmp_path, no_network):
 
 
 def test_evaluate_opens_no_connection(no_network):
-    from dossier.cli import main
+    from dossier.cli.main import main
 
     result = CliRunner().invoke(main, ["evaluate", "--json",
                                        str(ROOT / "tests" / "fixtures" / "cases" / "full.md")])

@@ -8,12 +8,12 @@ from pathlib import Path
 
 import pytest
 
-from dossier.assess import assess_case
-from dossier.case import Status
-from dossier.casefile import SCHEMA, parse_case_text
+from dossier.assess.evaluate import assess_case
+from dossier.model.case import Status
+from dossier.casefile.load import SCHEMA, parse_case_text
 from dossier.errors import CaseError, DossierError
-from dossier.newcase import KEY_HELP, MAX_ID_LENGTH, case_template, write_new_case
-from dossier.species import Library
+from dossier.casefile.template import KEY_HELP, MAX_ID_LENGTH, case_template, write_new_case
+from dossier.library.lookup import Library
 
 COMBUSTION = "CH4(g) + 2 O2(g) -> CO2(g) + 2 H2O(g)"
 

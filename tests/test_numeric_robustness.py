@@ -14,9 +14,9 @@ from pathlib import Path
 
 import pytest
 
-from dossier.assess import assess_case
-from dossier.casefile import parse_case_text
-from dossier.species import Library
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import parse_case_text
+from dossier.library.lookup import Library
 
 CHARGE = """
 [charge]
@@ -107,7 +107,7 @@ _BAD_TEXT = re.compile(r"(?<![A-Za-z])(nan|NaN|inf|Infinity|-inf)(?![A-Za-z])")
 
 
 def test_pages_show_no_nan_or_inf(tmp_path):
-    from dossier.build import build_site
+    from dossier.build.pipeline import build_site
 
     cases = tmp_path / "cases"
     cases.mkdir()

@@ -12,10 +12,11 @@ from pathlib import Path
 
 import pytest
 
-from dossier import packets, site
-from dossier.assess import CAUTIONS
-from dossier.build import assess_file
-from dossier.species import Library
+from dossier.render import packets
+from dossier.render import pages as site
+from dossier.assess.evaluate import CAUTIONS
+from dossier.build.pipeline import assess_file
+from dossier.library.lookup import Library
 
 sys.path.insert(0, str(Path(__file__).parent))
 from fixtures.site import harness  # noqa: E402
@@ -224,7 +225,7 @@ def test_pdftoppm_renders_the_cover(built):
 
 
 def test_closed_forms_print_as_text_and_fall_back_to_svg():
-    from dossier.derivation import Segment
+    from dossier.engine.derivation import Segment
 
     seg = Segment(t_low=298.15, t_high=400.0, anchor=298.15, dH_anchor=-1000.0, dS_anchor=-2.0,
                   dCp_latex=r"1.5 \cdot 10^{-3} T^{2} - 4.0 T + 12.0",

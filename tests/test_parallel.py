@@ -14,8 +14,8 @@ from click.testing import CliRunner
 sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
 import harness  # noqa: E402
 
-import dossier.build as build  # noqa: E402
-from dossier.cli import main  # noqa: E402
+import dossier.build.pipeline as build  # noqa: E402
+from dossier.cli.main import main  # noqa: E402
 
 GOOD = ("ammonia.md", "calcination.md", "hydrogenation.md")
 

@@ -64,7 +64,7 @@ def snapshot(root: Path, skip: tuple[Path, ...]) -> dict[str, str]:
 
 @pytest.fixture(scope="module")
 def hostile_build(tmp_path_factory):
-    from dossier.build import build_site
+    from dossier.build.pipeline import build_site
 
     root = tmp_path_factory.mktemp("paths")
     cases = root / "cases"

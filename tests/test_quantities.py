@@ -11,7 +11,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from dossier.errors import UnitError
-from dossier.quantities import (DIMENSIONS, MAX_MAGNITUDE, parse_mass_or_amount,
+from dossier.casefile.units import (DIMENSIONS, MAX_MAGNITUDE, parse_mass_or_amount,
                                 parse_quantity)
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -214,7 +214,7 @@ def test_kilopascal_round_trip(x):
 
 
 def test_importing_the_module_does_not_import_pint():
-    code = "import sys, dossier.quantities; print('pint' in sys.modules)"
+    code = "import sys, dossier.casefile.units; print('pint' in sys.modules)"
     out = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True,
                          text=True, check=True)
     assert out.stdout.strip() == "False"

@@ -8,7 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from dossier.errors import ReactionError
-from dossier.reaction import (
+from dossier.chem.reaction import (
     Reaction,
     Term,
     balance_residuals,

@@ -5,10 +5,10 @@ import os
 
 import pytest
 
-from dossier.assess import assess_case
-from dossier.casefile import parse_case_text, read_header
-from dossier.revisions import archived_revisions, flatten, history, input_changes
-from dossier.species import Library
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import parse_case_text, read_header
+from dossier.review.revisions import archived_revisions, flatten, history, input_changes
+from dossier.library.lookup import Library
 
 LIB = Library.default()
 

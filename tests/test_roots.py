@@ -1,4 +1,4 @@
-"""Brent's zero-finder (dossier.roots.brent) against scipy.optimize.brentq,
+"""Brent's zero-finder (dossier.engine.roots.brent) against scipy.optimize.brentq,
 and the promise that the runtime path never imports scipy.
 
 scipy is imported here only as a reference implementation; the package
@@ -17,8 +17,8 @@ from pathlib import Path
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from dossier.equilibrium import EqSpecies, EquilibriumSystem
-from dossier.roots import EPS, ConvergenceError, brent
+from dossier.engine.equilibrium import EqSpecies, EquilibriumSystem
+from dossier.engine.roots import EPS, ConvergenceError, brent
 
 REPO = Path(__file__).resolve().parents[1]
 FULL_CASE = REPO / "tests" / "fixtures" / "cases" / "full.md"
@@ -38,7 +38,7 @@ class Counted:
 
 def _ammonia_residual(ln_k: float):
     # N2(g) + 3 H2(g) -> 2 NH3(g) at 1 bar: the ln-space residual that
-    # dossier.equilibrium solves, ln Q(u) - ln K on u in [-750, 750].
+    # dossier.engine.equilibrium solves, ln Q(u) - ln K on u in [-750, 750].
     system = EquilibriumSystem(
         (EqSpecies(-1.0, "g"), EqSpecies(-3.0, "g"), EqSpecies(2.0, "g")), 1.0e5)
     return lambda u: system.ln_q(u) - ln_k
@@ -99,7 +99,7 @@ def test_agrees_with_scipy_brentq(name, f, a, b):
 
 @pytest.mark.parametrize("ln_k", [-600.0, -30.0, 0.0, 30.0, 600.0])
 def test_equilibrium_tolerances_agree_with_scipy(ln_k):
-    # The exact call dossier.equilibrium makes (xtol 1e-12, rtol 1e-14,
+    # The exact call dossier.engine.equilibrium makes (xtol 1e-12, rtol 1e-14,
     # maxiter 500), against scipy with the same arguments.
     optimize = pytest.importorskip("scipy.optimize")
     f = _ammonia_residual(ln_k)
@@ -216,8 +216,8 @@ def _run(code: str) -> subprocess.CompletedProcess:
 def test_importing_the_runtime_modules_does_not_import_scipy():
     # Requirement of the brief: importing these modules loads no scipy.
     proc = _run(
-        "import dossier.cli, dossier.assess, dossier.scale, dossier.energetics, "
-        "dossier.safety, dossier.thermo, dossier.equilibrium, dossier.roots\n"
+        "import dossier.cli.main, dossier.assess.evaluate, dossier.assess.batch, dossier.engine.energetics, "
+        "dossier.engine.safety, dossier.engine.thermo, dossier.engine.equilibrium, dossier.engine.roots\n"
         "import sys\n"
         "bad = sorted(m for m in sys.modules if m == 'scipy' or m.startswith('scipy.'))\n"
         "assert not bad, bad\n"
@@ -228,10 +228,10 @@ def test_importing_the_runtime_modules_does_not_import_scipy():
 
 
 _EVALUATE_FULL = (
-    "from dossier.assess import assess_case\n"
-    "from dossier.casefile import load_case\n"
-    "from dossier.species import Library\n"
-    "from dossier.terminal import render_assessment\n"
+    "from dossier.assess.evaluate import assess_case\n"
+    "from dossier.casefile.load import load_case\n"
+    "from dossier.library.lookup import Library\n"
+    "from dossier.render.terminal import render_assessment\n"
     f"a = assess_case(load_case({str(FULL_CASE)!r}), Library.default())\n"
     "render_assessment(a)\n"
 )

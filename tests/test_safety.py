@@ -1,4 +1,4 @@
-"""Thermal-safety methods (dossier.safety) against hand calculations,
+"""Thermal-safety methods (dossier.engine.safety) against hand calculations,
 published constants and the definitions of the published methods.
 
 Every check value carries its source in a comment.
@@ -12,9 +12,9 @@ import pytest
 from hypothesis import given, settings, strategies as st
 from scipy.special import lambertw
 
-from dossier import safety
+from dossier.engine import safety
 from dossier.errors import CaseError, DossierError
-from dossier.safety import (
+from dossier.engine.safety import (
     R,
     adiabatic_rise,
     cooling_check,
@@ -52,7 +52,7 @@ def test_adiabatic_rise_of_a_neutralisation_charge():
     #   (CODATA Key Values for Thermodynamics, Cox, Wagman & Medvedev,
     #   Hemisphere 1989), so ΔrH = -285.830 + 230.015 = -55.815 kJ/mol.
     #   M(NaOH) = 22.98977 + 15.9994 + 1.00794 = 39.99711 g/mol
-    #   (IUPAC atomic weights as in dossier.elements)
+    #   (IUPAC atomic weights as in dossier.chem.elements)
     #   n = 100 000 g / 39.99711 g/mol = 2500.18 mol
     #   Q = 2500.18 mol * 55 815 J/mol = 139.548 MJ
     #   reaction mass 2000 kg, cp' 3.9 kJ/(kg K) (dilute aqueous mass,

@@ -12,10 +12,11 @@ from pathlib import Path
 
 import pytest
 
-from dossier import site, writer
-from dossier.build import CaseFailure, assess_file, build_site, case_view
+from dossier.render import pages as site
+from dossier.build import writer
+from dossier.build.pipeline import CaseFailure, assess_file, build_site, case_view
 from dossier.errors import DossierError
-from dossier.species import Library
+from dossier.library.lookup import Library
 
 sys.path.insert(0, str(Path(__file__).parent))
 from fixtures.site import harness  # noqa: E402
@@ -123,7 +124,7 @@ def test_case_page_shows_the_dossier(built):
 
 
 def test_integrity_record_is_the_documented_digest(built):
-    from dossier.integrity import digest_for_case
+    from dossier.review.digest import digest_for_case
 
     record, _rev, _cid = digest_for_case(harness.CASES / "hydrogenation.md")
     text = _plain(_text(built.root / "cases" / "hydrogenation.html"))
@@ -178,7 +179,8 @@ def test_species_pages_link_back_and_mark_local_data():
 
 def test_methods_page_names_methods_and_sources(built):
     text = _plain(_text(built.root / "methods.html"))
-    from dossier import energetics, safety
+    from dossier.engine import energetics
+    from dossier.engine import safety
 
     for src in (safety.SEVERITY_SOURCE, safety.PROBABILITY_SOURCE, safety.CRITICALITY_SOURCE,
                 safety.TMR_SOURCE, energetics.UN_SCREENING_SOURCE):
@@ -322,7 +324,7 @@ def test_strict_build_writes_nothing(tmp_path):
 
 
 def test_a_case_that_fails_to_render_is_left_out_and_the_others_build(monkeypatch):
-    import dossier.build as build
+    import dossier.build.pipeline as build
 
     lib = Library.default()
     good = assess_file(harness.CASES / "calcination.md", lib)

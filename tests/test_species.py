@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 
 from dossier.errors import LibraryError, SpeciesError
-from dossier.species import (
+from dossier.library.lookup import (
     ConstantCp,
     Library,
     Nasa7,
@@ -421,7 +421,7 @@ def test_search_ranks_exact_before_partial():
 
 
 def _local(sid, name, formula, phase, hf, s, cp, **kw):
-    from dossier.formula import parse_formula
+    from dossier.chem.formula import parse_formula
 
     f = parse_formula(formula)
     return SpeciesRecord(id=sid, name=name, formula=f.hill,

@@ -1,0 +1,481 @@
+"""Figures of a dossier as SVG text (matplotlib, Agg backend).
+
+Pure functions: numbers in, :class:`Figure` out (the SVG text, a caption, a
+text alternative and the figure's data as a table of formatted strings, which
+the page prints beside the figure).  Nothing is written here.
+
+Rebuilds are byte-stable: the SVG hash salt is fixed, the date and other
+volatile metadata are left out, and text is drawn as paths (so the figure
+looks the same wherever it is opened or printed).  matplotlib is imported
+only inside this module, and only when a figure is drawn.
+"""
+from __future__ import annotations
+
+import functools
+import io
+import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Sequence
+
+import numpy as np
+
+if TYPE_CHECKING:  # pragma: no cover
+    from dossier.assess.evaluate import ProfileRow, Safety
+    from dossier.library.lookup import SpeciesRecord
+    from dossier.engine.thermo import Crossover, ReactionThermo
+
+T0 = 273.15  # K at 0 degC
+T_REF = 298.15  # K
+
+# Our own calm, print-first palette: ink, one muted blue, greys.
+INK = "#1f2a33"
+BLUE = "#2f5d7c"
+GREY = "#6b7780"
+PALE = "#e6ecf0"
+
+STYLE = {
+    "svg.hashsalt": "dossier-figures-1",
+    "svg.fonttype": "none",
+    "font.family": "DejaVu Sans",
+    "font.size": 9.0,
+    "axes.edgecolor": GREY,
+    "axes.labelcolor": INK,
+    "axes.linewidth": 0.8,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.grid": True,
+    "grid.color": "#d5dbe0",
+    "grid.linewidth": 0.5,
+    "xtick.color": GREY,
+    "ytick.color": GREY,
+    "xtick.labelcolor": INK,
+    "ytick.labelcolor": INK,
+    "legend.frameon": False,
+    "legend.fontsize": 8.0,
+    "lines.linewidth": 1.6,
+    "path.simplify": False,
+}
+
+#: SVG metadata: no date, no tool version, so identical input gives identical bytes.
+SVG_METADATA = {"Date": None, "Creator": None, "Format": None, "Type": None}
+
+
+@dataclass(frozen=True)
+class Figure:
+    """One drawn figure with its words and its data."""
+
+    name: str  # file stem, e.g. "gibbs"
+    title: str
+    caption: str
+    alt: str  # short text alternative for the image
+    columns: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    svg: str
+
+
+def _new_figure(width: float = 6.4, height: float = 3.4, top_axis: bool = True):
+    """A figure with fixed margins (faster and steadier than automatic layout)."""
+    from matplotlib.figure import Figure as MplFigure
+
+    fig = MplFigure(figsize=(width, height))
+    fig.subplots_adjust(left=0.72 / width, right=1 - 0.18 / width, bottom=0.5 / height,
+                        top=1 - (0.55 if top_axis else 0.3) / height)
+    return fig
+
+
+def _svg(fig) -> str:
+    buf = io.StringIO()
+    fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=False,
+                facecolor="white")
+    return buf.getvalue()
+
+
+def _draw(fn):
+    """Run a drawing function under the fixed style, with matplotlib on Agg."""
+    import matplotlib
+
+    matplotlib.use("Agg", force=False)
+    with matplotlib.rc_context(STYLE):
+        return fn()
+
+
+def _celsius_axis(ax) -> None:
+    sec = ax.secondary_xaxis("top", functions=(lambda t: t - T0, lambda c: c + T0))
+    sec.set_xlabel("t / °C", color=GREY)
+    sec.tick_params(colors=GREY)
+
+
+def _f(x: float, digits: int = 2) -> str:
+    return "–" if x is None or not math.isfinite(x) else f"{x:.{digits}f}"
+
+
+# --------------------------------------------------------------------------
+# ΔG°(T)
+
+def gibbs_range(window: tuple[float, float], crossovers: Sequence["Crossover"] = ()
+                ) -> tuple[float, float]:
+    """Temperatures shown in the ΔG° figure: the window widened on both sides,
+    stretched to include the crossovers found nearby."""
+    lo, hi = window
+    span = max(hi - lo, 100.0)
+    a, b = max(100.0, lo - span), hi + span
+    for c in crossovers:
+        a, b = min(a, max(100.0, c.T - 0.1 * span)), max(b, c.T + 0.1 * span)
+    return a, min(b, max(hi + span, 3000.0))
+
+
+def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
+                 data_range: tuple[float, float], crossovers: Sequence["Crossover"]) -> Figure:
+    """ΔrG°(T) over a range wider than the window: window shaded, zero line,
+    crossovers marked, values outside the data range dashed."""
+    a, b = gibbs_range(window, crossovers)
+    T = np.unique(np.concatenate([np.linspace(a, b, 400), list(window),
+                                  [x for x in data_range if a < x < b]]))
+    G = thermo.dG(T) / 1e3
+    d_lo, d_hi = data_range
+    inside = (T >= d_lo) & (T <= d_hi)
+    shown = [c for c in crossovers if a <= c.T <= b]
+
+    def draw():
+        fig = _new_figure()
+        ax = fig.add_subplot()
+        ax.axvspan(window[0], window[1], color=PALE, zorder=0, label="operating window")
+        ax.axhline(0.0, color=GREY, linewidth=0.9, zorder=1)
+        gin = np.where(inside, G, np.nan)
+        # the dashed part includes the data-range ends, so it joins the solid line
+        gout = np.where((T <= d_lo) | (T >= d_hi), G, np.nan)
+        ax.plot(T, gin, color=BLUE, label=r"$\Delta_\mathrm{r}G^\circ$ within the data range")
+        if np.any(~inside):
+            ax.plot(T, gout, color=BLUE, linestyle=(0, (4, 3)),
+                    label=r"$\Delta_\mathrm{r}G^\circ$ extrapolated beyond the data")
+        for c in shown:
+            ax.plot([c.T], [0.0], marker="o", markersize=6, markerfacecolor="white",
+                    markeredgecolor=INK, zorder=3)
+            ax.annotate(f"{c.T:.0f} K", (c.T, 0.0), textcoords="offset points",
+                        xytext=(4, 8), color=INK)
+        ax.set_xlim(a, b)
+        ax.set_xlabel("T / K")
+        ax.set_ylabel(r"$\Delta_\mathrm{r}G^\circ$ / kJ mol$^{-1}$")
+        _celsius_axis(ax)
+        ax.legend(loc="best")
+        return _svg(fig)
+
+    svg = _draw(draw)
+    # data table: round temperatures across the range, the window ends, crossovers
+    step = _nice_step((b - a) / 10.0)
+    pts = sorted({*np.arange(math.ceil(a / step) * step, b + 1e-9, step).tolist(),
+                  *window, *(c.T for c in shown)})
+    rows = []
+    for t in pts:
+        g = float(thermo.dG(np.array([t]))[0]) / 1e3
+        note = []
+        if window[0] <= t <= window[1]:
+            note.append("in window")
+        if not (d_lo <= t <= d_hi):
+            note.append("extrapolated")
+        if any(abs(t - c.T) < 1e-9 for c in shown):
+            note.append("crossover")
+        rows.append((f"{t:.2f}", f"{t - T0:.2f}", _f(g, 3), ", ".join(note)))
+    if shown:
+        cross = "; ".join(f"ΔG° = 0 at {c.T:.1f} K ({c.T - T0:.1f} °C), {c.direction}"
+                          for c in shown)
+    else:
+        cross = "ΔG° does not change sign in the range shown"
+    caption = (f"Standard Gibbs energy of reaction against temperature, {a:.0f}–{b:.0f} K. "
+               f"The shaded band is the operating window; the solid line lies within the "
+               f"species data ({d_lo:.0f}–{d_hi:.0f} K), the dashed line is extrapolated. "
+               f"{cross}.")
+    return Figure("gibbs", "ΔG° against temperature", caption,
+                  f"Line plot of ΔG° from {a:.0f} to {b:.0f} K. {cross}.",
+                  ("T / K", "t / °C", "ΔG° / kJ mol⁻¹", "note"), tuple(rows), svg)
+
+
+def _nice_step(raw: float) -> float:
+    if raw <= 0:
+        return 1.0
+    mag = 10 ** math.floor(math.log10(raw))
+    for m in (1, 2, 2.5, 5, 10):
+        if m * mag >= raw:
+            return m * mag
+    return 10 * mag
+
+
+# --------------------------------------------------------------------------
+# equilibrium conversion
+
+def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basis: str,
+                      mode: str, note: str) -> Figure:
+    T = np.array([r.T_K for r in profile])
+    X = np.array([r.conversion for r in profile]) * 100.0
+
+    def draw():
+        fig = _new_figure(6.4, 3.0)
+        ax = fig.add_subplot()
+        style = "steps-mid" if mode == "all-or-nothing" else "default"
+        ax.plot(T, X, color=BLUE, drawstyle=style, marker="o", markersize=2.5)
+        ax.set_ylim(-3, 103)
+        ax.set_xlim(T.min(), T.max()) if T.max() > T.min() else None
+        ax.set_xlabel("T / K")
+        ax.set_ylabel("equilibrium conversion / %")
+        _celsius_axis(ax)
+        return _svg(fig)
+
+    svg = _draw(draw)
+    rows = tuple((f"{r.T_K:.2f}", f"{r.T_K - T0:.2f}", f"{r.conversion * 100:.2f}")
+                 for r in profile)
+    extra = f" {note}" if note else ""
+    caption = (f"Equilibrium conversion of {basis} against temperature across the operating "
+               f"window at {pressure_bar:g} bar, from a stoichiometric feed (see Methods)."
+               f"{extra}")
+    lo, hi = float(X.min()), float(X.max())
+    return Figure("conversion", "Equilibrium conversion", caption,
+                  f"Equilibrium conversion of {basis} between {lo:.1f} % and {hi:.1f} % "
+                  f"over {T.min():.0f}–{T.max():.0f} K.",
+                  ("T / K", "t / °C", "conversion / %"), rows, svg)
+
+
+# --------------------------------------------------------------------------
+# entropy balance
+
+def entropy_figure(profile: Sequence["ProfileRow"]) -> Figure:
+    T = np.array([r.T_K for r in profile])
+    sys_ = np.array([r.dS_J_molK for r in profile])
+    surr = np.array([r.dS_surr_J_molK for r in profile])
+    univ = np.array([r.dS_univ_J_molK for r in profile])
+
+    def draw():
+        fig = _new_figure(6.4, 3.2)
+        ax = fig.add_subplot()
+        ax.axhline(0.0, color=GREY, linewidth=0.9)
+        ax.plot(T, sys_, color=INK, linestyle=(0, (1.5, 2)), label=r"$\Delta_\mathrm{r}S^\circ$ (system)")
+        ax.plot(T, surr, color=GREY, linestyle=(0, (5, 2.5)), label=r"$\Delta S_\mathrm{surr} = -\Delta_\mathrm{r}H^\circ/T$ (surroundings)")
+        ax.plot(T, univ, color=BLUE, linewidth=2.2, label=r"$\Delta S_\mathrm{univ} = \Delta_\mathrm{r}S^\circ + \Delta S_\mathrm{surr}$ (universe)")
+        if T.max() > T.min():
+            ax.set_xlim(T.min(), T.max())
+        ax.set_xlabel("T / K")
+        ax.set_ylabel(r"entropy change / J mol$^{-1}$ K$^{-1}$")
+        _celsius_axis(ax)
+        ax.legend(loc="best")
+        return _svg(fig)
+
+    svg = _draw(draw)
+    rows = tuple((f"{r.T_K:.2f}", _f(r.dS_J_molK), _f(r.dS_surr_J_molK), _f(r.dS_univ_J_molK))
+                 for r in profile)
+    sign = ("positive throughout" if np.all(univ > 0) else
+            "negative throughout" if np.all(univ < 0) else "changing sign")
+    caption = ("Entropy balance per mole of reaction across the operating window: the system "
+               "(ΔS°), the surroundings that receive the heat at constant temperature and "
+               "pressure (−ΔH°/T) and the universe, their sum (equal to −ΔG°/T), which is "
+               f"{sign}.")
+    return Figure("entropy", "Entropy of system, surroundings and universe", caption,
+                  f"Three lines against temperature: entropy change of the system, of the surroundings and of the universe; the universe's is {sign}.",
+                  ("T / K", "ΔS° system / J mol⁻¹ K⁻¹", "ΔS surroundings / J mol⁻¹ K⁻¹",
+                   "ΔS universe / J mol⁻¹ K⁻¹"), rows, svg)
+
+
+# --------------------------------------------------------------------------
+# temperature ladder of the runaway scenario
+
+def ladder_levels(safety: "Safety") -> tuple[tuple[str, float, str], ...]:
+    """(label, temperature K, meaning) of the scenario's temperatures, lowest first."""
+    sc = safety.scale
+    levels = []
+    if sc is not None:
+        levels.append(("T_p", sc.T_process_K, "process temperature"))
+    if safety.mtsr_K is not None:
+        levels.append(("MTSR", safety.mtsr_K, "maximum temperature of the synthesis reaction"))
+    if safety.mtt_K is not None:
+        levels.append(("MTT", safety.mtt_K, "maximum technical temperature"))
+    if safety.td24_K is not None:
+        levels.append(("TD24", safety.td24_K, "TMRad of 24 h"))
+    if safety.final_temperature_K is not None:
+        levels.append(("T_end", safety.final_temperature_K,
+                       "final temperature if the decomposition follows"))
+    return tuple(sorted(levels, key=lambda x: x[1]))
+
+
+LADDER_TEX = {"T_p": r"$T_\mathrm{p}$", "T_end": r"$T_\mathrm{end}$"}
+LADDER_TEXT = {"T_p": "Tₚ", "T_end": "T end"}
+
+
+def ladder_figure(safety: "Safety") -> Figure | None:
+    """The scenario's temperatures on one scale, or None when fewer than two are known."""
+    levels = ladder_levels(safety)
+    if len(levels) < 2:
+        return None
+    cls = safety.criticality_class
+    values = dict((k, v) for k, v, _ in levels)
+
+    def draw():
+        fig = _new_figure(6.4, 3.8, top_axis=False)
+        ax = fig.add_subplot()
+        ax.grid(False)
+        ax.spines["bottom"].set_visible(False)
+        ax.set_xticks([])
+        ts = [v for _, v, _ in levels]
+        pad = max(10.0, 0.08 * (max(ts) - min(ts)))
+        ax.set_ylim(min(ts) - pad, max(ts) + pad)
+        ax.set_xlim(0, 10)
+        placed: list[float] = []
+        min_gap = 0.06 * (max(ts) - min(ts) + 2 * pad)
+        for label, t, meaning in levels:
+            strong = label in ("MTSR", "TD24")
+            ax.hlines(t, 2.4, 5.6, color=BLUE if strong else INK,
+                      linewidth=2.2 if strong else 1.2)
+            y = t
+            if placed and y - placed[-1] < min_gap:
+                y = placed[-1] + min_gap
+            placed.append(y)
+            ax.annotate(f"{LADDER_TEX.get(label, label)}  {t:.1f} K ({t - T0:.1f} °C)", (5.6, t),
+                        xytext=(6.0, y), textcoords="data", va="center", color=INK,
+                        arrowprops=dict(arrowstyle="-", color=GREY, linewidth=0.6))
+        if "T_p" in values and "MTSR" in values:
+            ax.annotate("", xy=(1.0, values["MTSR"]), xytext=(1.0, values["T_p"]),
+                        arrowprops=dict(arrowstyle="->", color=INK, linewidth=1.0))
+            ax.text(0.75, (values["T_p"] + values["MTSR"]) / 2, "synthesis", va="center",
+                    ha="right", color=GREY, fontsize=8, rotation=90)
+        if "MTSR" in values and "T_end" in values:
+            ax.annotate("", xy=(1.9, values["T_end"]), xytext=(1.9, values["MTSR"]),
+                        arrowprops=dict(arrowstyle="->", color=INK, linewidth=1.0,
+                                        linestyle=(0, (3, 2))))
+            ax.text(1.65, (values["MTSR"] + values["T_end"]) / 2, "decomposition",
+                    va="center", ha="right", color=GREY, fontsize=8, rotation=90)
+        ax.set_ylabel("T / K")
+        if cls is not None:
+            ax.set_title(f"criticality class {cls}", loc="left", color=INK, fontsize=9)
+        return _svg(fig)
+
+    svg = _draw(draw)
+    rows = tuple((LADDER_TEXT.get(label, label), f"{t:.2f}", f"{t - T0:.2f}", meaning)
+                 for label, t, meaning in levels)
+    order = " < ".join(LADDER_TEXT.get(label, label) for label, _, _ in levels)
+    cls_text = f"criticality class {cls}" if cls is not None else "criticality class not assessed"
+    caption = (f"Temperatures of the cooling-failure scenario on one scale ({order}); "
+               f"{cls_text} (Stoessel). The solid arrow is the rise from the accumulated "
+               "synthesis reaction, the dashed one the further rise if the decomposition follows.")
+    return Figure("ladder", "Temperature ladder of the runaway scenario", caption,
+                  f"Temperature levels of the runaway scenario: {order}; {cls_text}.",
+                  ("level", "T / K", "t / °C", "meaning"), rows, svg)
+
+
+# --------------------------------------------------------------------------
+# species curves
+
+def species_range(record: "SpeciesRecord") -> tuple[float, float]:
+    m = record.model
+    lo = float(m.t_min)
+    hi = float(min(m.t_max, max(lo + 400.0, 1500.0)))
+    return lo, hi
+
+
+class _Record:
+    """A species record compared by its digest (so that its figure can be remembered)."""
+
+    __slots__ = ("record", "key")
+
+    def __init__(self, record: "SpeciesRecord"):
+        self.record = record
+        self.key = record.digest()
+
+    def __hash__(self) -> int:
+        return hash(self.key)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, _Record) and other.key == self.key
+
+
+def species_figure(record: "SpeciesRecord") -> Figure:
+    """Cp, H, S and G = H − TS of one species over (part of) its data range.
+
+    The same record (same digest) always gives the same figure, so it is drawn once.
+    """
+    return _species_figure(_Record(record))
+
+
+@functools.lru_cache(maxsize=512)
+def _species_figure(held: _Record) -> Figure:
+    record = held.record
+    lo, hi = species_range(record)
+    T = np.linspace(lo, hi, 300)
+    m = record.model
+    cp = np.asarray(m.cp(T), dtype=float)
+    h = np.asarray(m.h(T), dtype=float) / 1e3
+    s = np.asarray(m.s(T), dtype=float)
+    g = h - T * s / 1e3
+    panels = ((r"$C_p^\circ$ / J mol$^{-1}$ K$^{-1}$", cp), (r"$H^\circ$ / kJ mol$^{-1}$", h),
+              (r"$S^\circ$ / J mol$^{-1}$ K$^{-1}$", s), (r"$G^\circ = H^\circ - TS^\circ$ / kJ mol$^{-1}$", g))
+
+    def draw():
+        fig = _new_figure(6.4, 4.6, top_axis=False)
+        fig.subplots_adjust(left=0.1, right=0.98, wspace=0.32, hspace=0.12, top=0.97)
+        axes = fig.subplots(2, 2, sharex=True)
+        for ax, (label, y) in zip(axes.flat, panels):
+            ax.plot(T, y, color=BLUE)
+            if lo <= T_REF <= hi:
+                ax.axvline(T_REF, color=GREY, linewidth=0.7, linestyle=(0, (2, 2)))
+            ax.set_ylabel(label, fontsize=8)
+        for ax in axes[1]:
+            ax.set_xlabel("T / K")
+        return _svg(fig)
+
+    svg = _draw(draw)
+    step = _nice_step((hi - lo) / 8.0)
+    pts = sorted({lo, hi, *([T_REF] if lo <= T_REF <= hi else []),
+                  *np.arange(math.ceil(lo / step) * step, hi, step).tolist()})
+    rows = []
+    for t in pts:
+        ta = np.array([t])
+        hv = float(m.h(ta)[0]) / 1e3
+        sv = float(m.s(ta)[0])
+        rows.append((f"{t:.2f}", _f(float(m.cp(ta)[0])), _f(hv, 3), _f(sv), _f(hv - t * sv / 1e3, 3)))
+    caption = (f"Heat capacity, enthalpy (formation scale), entropy and Gibbs energy of "
+               f"{record.name} ({record.phase}) from {lo:.0f} to {hi:.0f} K by its "
+               f"{m.kind} model; the dotted line marks 298.15 K.")
+    return Figure("curves", f"Cp, H, S and G of {record.name}", caption,
+                  f"Four panels: Cp°, H°, S° and G° of {record.name} against temperature, "
+                  f"{lo:.0f}–{hi:.0f} K.",
+                  ("T / K", "Cp° / J mol⁻¹ K⁻¹", "H° / kJ mol⁻¹", "S° / J mol⁻¹ K⁻¹",
+                   "G° / kJ mol⁻¹"), tuple(rows), svg)
+
+
+# --------------------------------------------------------------------------
+# formulas for print (weasyprint does not typeset MathML)
+
+def formula_svg(latex: str, fontsize: float = 10.0) -> str:
+    """One line of LaTeX mathematics as SVG (matplotlib mathtext), sized to the formula."""
+
+    def draw():
+        from matplotlib.figure import Figure as MplFigure
+        from matplotlib.font_manager import FontProperties
+        from matplotlib.mathtext import MathTextParser
+
+        text = "$" + latex.replace(r"\frac", r"\dfrac") + "$"  # fractions in display style
+        prop = FontProperties(size=fontsize)
+        width, height, depth, *_ = MathTextParser("path").parse(text, dpi=72, prop=prop)
+        pad = 2.0
+        fig = MplFigure(figsize=((width + 2 * pad) / 72, (height + 2 * pad) / 72))
+        fig.text(pad / (width + 2 * pad), (depth + pad) / (height + 2 * pad), text,
+                 fontproperties=prop, color=INK)
+        buf = io.StringIO()
+        fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=True)
+        return buf.getvalue()
+
+    return _draw(draw)
+
+
+def case_figures(thermo: "ReactionThermo", assessment) -> tuple[Figure, ...]:
+    """All figures of one case, in page order."""
+    t = assessment.thermo
+    figs = [gibbs_figure(thermo, t.window_K, t.data_range_K, t.crossovers),
+            conversion_figure(t.profile, t.pressure_bar, t.basis, t.equilibrium_mode,
+                              t.equilibrium_note),
+            entropy_figure(t.profile)]
+    if assessment.safety is not None:
+        lad = ladder_figure(assessment.safety)
+        if lad is not None:
+            figs.append(lad)
+    return tuple(figs)
+
+
+__all__ = ["Figure", "case_figures", "conversion_figure", "entropy_figure", "formula_svg",
+           "gibbs_figure", "ladder_figure", "ladder_levels", "species_figure"]

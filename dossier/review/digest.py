@@ -1,0 +1,297 @@
+"""Integrity records: one SHA-256 digest for everything a verdict rests on.
+
+A review board accepts a case as it stood: the case file, the species data
+the assessment used, the version of the data library and of dossier, and the
+method settings (thresholds and the like).  :func:`case_digest` condenses all
+of that into one digest, so a signed verdict can later be checked against the
+case as it stands now.  The serialisation is documented in
+``docs/signatures.md`` and summarised here:
+
+1. ``case``: SHA-256 of the case file's bytes, exactly as stored.
+2. ``species``: for every species record used, SHA-256 of its canonical JSON
+   text; the list holds ``[id, digest]`` pairs sorted by id (then digest).
+3. ``settings``: SHA-256 of the canonical JSON text of the method settings.
+4. The *manifest* is the JSON object ``{"format": "dossier-integrity-1",
+   "case": ..., "species": [...], "library_version": ..., "tool_version": ...,
+   "settings": ...}``; the integrity digest is SHA-256 of its canonical JSON
+   text.
+
+Canonical JSON: keys sorted, no whitespace (separators ``,`` and ``:``),
+every non-ASCII character escaped (``\\uXXXX``), encoded as ASCII; numbers as
+Python writes them (shortest round-trip form); NaN and infinities are
+refused.  Digests are lowercase hexadecimal.
+
+Everything here is pure except :func:`digest_for_case`, which reads one case
+file and the shipped species library.
+"""
+from __future__ import annotations
+
+import re
+
+import hashlib
+import json
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Iterable, Mapping
+
+from dossier.errors import LibraryError
+
+#: Names the serialisation; bump it if the manifest ever changes shape.
+INTEGRITY_FORMAT = "dossier-integrity-1"
+
+#: Hex characters shown in the short display form of a digest.
+SHORT_LENGTH = 12
+
+
+def canonical_json(value: Any) -> str:
+    """The canonical JSON text of ``value`` (see the module documentation).
+
+    Accepts mappings with string keys, lists and tuples, strings, booleans,
+    integers, finite floats and None; anything else raises TypeError, a
+    non-finite float ValueError.
+    """
+    return json.dumps(_plain(value), sort_keys=True, separators=(",", ":"),
+                      ensure_ascii=True, allow_nan=False)
+
+
+def _plain(value: Any, where: str = "value") -> Any:
+    """``value`` as plain JSON types, checked."""
+    if value is None or isinstance(value, (bool, int, str)):
+        return value
+    if isinstance(value, float):
+        if not math.isfinite(value):
+            raise ValueError(f"{where} is {value!r}; only finite numbers can be digested "
+                             "(write an unbounded limit as null)")
+        return value
+    if isinstance(value, Mapping):
+        out = {}
+        for key, item in value.items():
+            if not isinstance(key, str):
+                raise TypeError(f"{where} has the key {key!r}; keys must be strings")
+            out[key] = _plain(item, f"{where}.{key}")
+        return out
+    if isinstance(value, (list, tuple)):
+        return [_plain(item, f"{where}[{i}]") for i, item in enumerate(value)]
+    raise TypeError(f"{where} is a {type(value).__name__}; only JSON values can be digested")
+
+
+def sha256_hex(data: bytes) -> str:
+    """SHA-256 of ``data``, lowercase hex."""
+    return hashlib.sha256(data).hexdigest()
+
+
+def short_digest(digest: str) -> str:
+    """The first 12 hex characters in groups of four, e.g. ``"ba78 16bf 8f01"``."""
+    head = digest[:SHORT_LENGTH]
+    return " ".join(head[i:i + 4] for i in range(0, len(head), 4))
+
+
+@dataclass(frozen=True)
+class IntegrityRecord:
+    """The integrity digest of one case and the component digests it is made of."""
+
+    digest: str                                   # SHA-256 of the manifest, hex
+    case_file_digest: str                         # SHA-256 of the case file's bytes
+    species_digests: tuple[tuple[str, str], ...]  # (record id, SHA-256 of its canonical JSON)
+    settings_digest: str                          # SHA-256 of the method settings' canonical JSON
+    library_version: str
+    tool_version: str
+    format: str = INTEGRITY_FORMAT
+
+    @property
+    def short(self) -> str:
+        """Short display form for pages: ``"ba78 16bf 8f01"``."""
+        return short_digest(self.digest)
+
+    def manifest(self) -> dict[str, Any]:
+        """The object whose canonical JSON text is hashed into :attr:`digest`."""
+        return {
+            "format": self.format,
+            "case": self.case_file_digest,
+            "species": [[sid, d] for sid, d in self.species_digests],
+            "library_version": self.library_version,
+            "tool_version": self.tool_version,
+            "settings": self.settings_digest,
+        }
+
+    def to_dict(self) -> dict[str, Any]:
+        """The manifest plus the digest itself (for the register and JSON export)."""
+        return {**self.manifest(), "digest": self.digest}
+
+
+def case_digest(case_bytes: bytes, species_records: Iterable[Mapping[str, Any]],
+                library_version: str, tool_version: str,
+                method_settings: Mapping[str, Any]) -> IntegrityRecord:
+    """The integrity record of a case with the data and settings its assessment used.
+
+    ``species_records`` are the canonical dicts of the records used (e.g.
+    ``SpeciesRecord.to_dict()``); each needs a string ``"id"``.  A record
+    given twice counts once; the order does not matter.
+    """
+    if not isinstance(case_bytes, (bytes, bytearray)):
+        raise TypeError(f"case_bytes must be bytes, got {type(case_bytes).__name__}")
+    pairs = set()
+    for record in species_records:
+        sid = record.get("id") if isinstance(record, Mapping) else None
+        if not isinstance(sid, str) or not sid:
+            raise LibraryError(f"a species record without a text id cannot be digested: {record!r:.80}")
+        pairs.add((sid, sha256_hex(canonical_json(record).encode("ascii"))))
+    record = IntegrityRecord(
+        digest="",
+        case_file_digest=sha256_hex(bytes(case_bytes)),
+        species_digests=tuple(sorted(pairs)),
+        settings_digest=sha256_hex(canonical_json(method_settings).encode("ascii")),
+        library_version=str(library_version),
+        tool_version=str(tool_version),
+    )
+    manifest = canonical_json(record.manifest()).encode("ascii")
+    return IntegrityRecord(
+        digest=sha256_hex(manifest),
+        case_file_digest=record.case_file_digest,
+        species_digests=record.species_digests,
+        settings_digest=record.settings_digest,
+        library_version=record.library_version,
+        tool_version=record.tool_version,
+    )
+
+
+# --------------------------------------------------------------------------
+# The assessment-side inputs of one case.  Kept together here so that the
+# wiring to the case loader, the library and the methods can be adjusted in
+# one place.
+# --------------------------------------------------------------------------
+
+
+def _bands(bands) -> list[list[Any]]:
+    """Threshold bands with infinite limits written as null."""
+    return [[level, lo if math.isfinite(lo) else None, hi if math.isfinite(hi) else None]
+            for level, lo, hi in bands]
+
+
+def current_method_settings() -> dict[str, Any]:
+    """The method settings the assessment uses now (thresholds of the methods)."""
+    from dossier.engine import energetics
+    from dossier.engine import safety
+
+    return {
+        "severity_bands_K": _bands(safety.SEVERITY_BANDS),
+        "probability_bands_h": _bands(safety.PROBABILITY_BANDS),
+        "td24_time_s": safety.TD24_TIME_S,
+        "gas_normal_conditions": [safety.T_NORMAL, safety.P_NORMAL],
+        "un_screening": {
+            "energy_J_per_g": energetics.UN_ENERGY_THRESHOLD_J_PER_G,
+            "onset_K": energetics.UN_ONSET_THRESHOLD_K,
+            "oxygen_balance": energetics.UN_OXYGEN_BALANCE_THRESHOLD,
+        },
+    }
+
+
+_REVIEW_HEADER = re.compile(rb"^[ \t]*\[\[[ \t]*review[ \t]*\]\][ \t]*(#.*)?$")
+_TABLE_HEADER = re.compile(rb"^[ \t]*\[")
+_FENCE = re.compile(rb"^\+\+\+[ \t]*$")
+
+
+def without_review_tables(data: bytes) -> bytes:
+    """The case file's bytes with its ``[[review]]`` tables left out.
+
+    A verdict recorded in the case file must not change the digest of what it
+    approved, so the digest covers everything else: every other header line
+    byte for byte, and the whole narrative.  A review table runs from its
+    ``[[review]]`` line to the next table header or the closing ``+++``.
+    """
+    lines = data.splitlines(keepends=True)
+    out: list[bytes] = []
+    fences = 0
+    skipping = False
+    for line in lines:
+        bare = line.rstrip(b"\r\n")
+        if fences == 1 and _FENCE.match(bare):
+            skipping = False
+        if fences == 1 and _REVIEW_HEADER.match(bare):
+            skipping = True
+            continue
+        if skipping and _TABLE_HEADER.match(bare):
+            skipping = False
+        if _FENCE.match(bare) and fences < 2:
+            fences += 1
+        if not skipping:
+            out.append(line)
+    return b"".join(out)
+
+
+@dataclass(frozen=True)
+class RecordedReview:
+    """A ``[[review]]`` table of the case file, checked against the current digest."""
+
+    name: str
+    role: str
+    date: str
+    verdict: str
+    status: str  # "matches" | "changed since reviewed" | "no digest recorded"
+    explanation: str
+
+
+def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview, ...]:
+    """Compare the digest each recorded verdict names with the case as it is now.
+
+    A recorded digest may be written in full or as its first 12 or more hex
+    digits (spaces allowed, as the pages print it).
+    """
+    out = []
+    for r in reviews:
+        recorded = (r.digest or "").replace(" ", "").lower()
+        if not recorded:
+            status = "no digest recorded"
+            why = ("the verdict does not name the digest it accepted, so it cannot be tied to "
+                   "this revision's data")
+        elif len(recorded) >= 12 and current_digest.startswith(recorded):
+            status = "matches"
+            why = "the case and its data are unchanged since this verdict"
+        else:
+            status = "changed since reviewed"
+            why = (f"the verdict names digest {short_digest(recorded) if len(recorded) >= 12 else recorded}, "
+                   f"but the case or its data now give {short_digest(current_digest)}")
+        out.append(RecordedReview(r.name, r.role, r.date.isoformat(), str(r.verdict), status, why))
+    return tuple(out)
+
+
+def digest_for_case(case_path: str | Path) -> tuple[IntegrityRecord, int, str]:
+    """(integrity record, revision, case id) of the case file at ``case_path``.
+
+    Reads the file and the shipped species library.  The species records are
+    those of the library that the reaction and the inerts name; case-local
+    ``[[species]]`` entries are part of the case file's bytes already.
+    """
+    from dossier import __version__
+    from dossier.casefile.load import load_case
+    from dossier.errors import CaseError, DossierError, Problem
+    from dossier.chem.reaction import parse_reaction
+    from dossier.library.lookup import Library, normalise_phase
+
+    path = Path(case_path)
+    try:
+        data = path.read_bytes()
+    except OSError as err:
+        raise CaseError(Problem(f"cannot read the case file: {err.strerror or err}",
+                                str(case_path))) from None
+    case = load_case(path)
+    library = Library.default()
+    local = {(s.name.lower(), normalise_phase(str(s.phase))) for s in case.species}
+    local |= {(s.formula.lower(), normalise_phase(str(s.phase))) for s in case.species}
+
+    labels = [(t.label, t.phase, "reaction") for t in parse_reaction(case.reaction).terms]
+    for inert, _amount in case.inerts:
+        body, _, phase = inert.rstrip(")").rpartition("(")
+        labels.append((body.strip(), phase, f"inerts.{inert}"))
+    records = []
+    for label, phase, key in labels:
+        if (label.lower(), normalise_phase(phase)) in local:
+            continue
+        try:
+            records.append(library.resolve(label, phase).to_dict())
+        except DossierError as err:
+            raise err.located(str(case_path), case.line_of(key), key) from None
+    record = case_digest(without_review_tables(data), records, library.version, __version__,
+                         current_method_settings())
+    return record, case.revision, case.id
