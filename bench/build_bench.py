@@ -175,7 +175,9 @@ def bench_size(n: int, packets: bool, speedup: bool, work: Path, env: dict,
 _PREPARE = r"""
 import json, sys
 from pathlib import Path
-from dossier.build.pipeline import assess_file, base_files, case_output, site_layout, _view_json
+from dossier.build.assessing import assess_file
+from dossier.build.layout import site_layout
+from dossier.build.outputs import base_files, case_output, view_json
 from dossier.render import pages as site
 from dossier.library.lookup import Library
 case, folder = Path(sys.argv[1]), Path(sys.argv[2])
@@ -190,7 +192,7 @@ for path, tex in site.print_assets(out.view):
         from dossier.render.figures import formula_svg
         files[path] = formula_svg(tex).encode("utf-8")
 files[f"packets/{slug}.html"] = site.render_case_packet(out.view).encode("utf-8")
-files["attachment.json"] = _view_json(out.view)
+files["attachment.json"] = view_json(out.view)
 for rel, data in files.items():
     p = folder / rel
     p.parent.mkdir(parents=True, exist_ok=True)

@@ -1,4 +1,8 @@
-"""The build cache (dossier.build.cache) and incremental rebuilds (dossier.build.pipeline.build_site)."""
+"""The build cache (dossier.build.cache) and incremental rebuilds (dossier.build.pipeline.build_site).
+
+What a rebuild made again is read from its report: ``BuildReport.made`` and
+``BuildReport.taken`` count the units of work made and taken from the cache, by
+kind ("assess", "view", "case", "species", "meeting", "register")."""
 from __future__ import annotations
 
 import dataclasses
@@ -14,6 +18,9 @@ import harness  # noqa: E402
 
 import dossier.build.pipeline as build  # noqa: E402
 from dossier.build.cache import Cache, key  # noqa: E402
+from dossier.build.keys import build_settings, case_key  # noqa: E402
+from dossier.casefile.load import MAX_FILE_BYTES  # noqa: E402
+from dossier.review.inputs import read_case_inputs  # noqa: E402
 from dossier.errors import DossierError  # noqa: E402
 from dossier.build.writer import MANIFEST  # noqa: E402
 
@@ -89,61 +96,42 @@ def _files(site: Path) -> dict[str, bytes]:
             if p.is_file()}
 
 
-class Calls:
-    """Counts calls of the build's steps (jobs=1 runs them in this process)."""
-
-    def __init__(self, monkeypatch):
-        self.n: dict[str, int] = {}
-        for name in ("assess_file", "case_view", "case_pages", "species_files"):
-            real = getattr(build, name)
-            monkeypatch.setattr(build, name, self._counting(name, real))
-
-    def _counting(self, name, real):
-        def wrapper(*args, **kwargs):
-            self.n[name] = self.n.get(name, 0) + 1
-            return real(*args, **kwargs)
-        return wrapper
-
-    def take(self) -> dict[str, int]:
-        out, self.n = self.n, {}
-        return out
-
-
 def test_default_cache_is_beside_the_output_folder(project):
     report = build.build_site(project / "cases", project / "site", packets=False)
-    assert report.written and report.reused == 0
+    assert report.written and report.reused == 0 and report.taken == {}
+    assert report.made["assess"] == 3 and report.made["case"] == 3 and report.made["view"] == 3
+    assert report.made["register"] == 1 and report.made["species"] >= 3
+    assert report.rendered == sum(n for kind, n in report.made.items() if kind != "view")
     assert (project / ".dossier-cache" / "entries" / "assess").is_dir()
     assert (project / "site" / MANIFEST).is_file()
 
 
-def test_a_rebuild_with_nothing_changed_renders_nothing_and_keeps_the_site(project, monkeypatch):
+def test_a_rebuild_with_nothing_changed_renders_nothing_and_keeps_the_site(project):
     cases, out = project / "cases", project / "site"
     build.build_site(cases, out, packets=False)
     before = _files(out)
     inode = os.stat(out).st_ino
-    calls = Calls(monkeypatch)
     report = build.build_site(cases, out, packets=False)
     assert report.unchanged and not report.written
-    assert calls.take() == {}
+    assert report.made == {} and report.rendered == 0
     assert os.stat(out).st_ino == inode  # not swapped
     assert _files(out) == before
     assert report.lines()[-1].startswith(f"nothing changed: {out} is up to date (3 of 3 cases")
 
 
-def test_changing_one_case_redoes_that_case_only(project, monkeypatch):
+def test_changing_one_case_redoes_that_case_only(project):
     cases, out = project / "cases", project / "site"
     build.build_site(cases, out, packets=False)
     before = _files(out)
-    calls = Calls(monkeypatch)
     with open(cases / "calcination.md", "a", encoding="utf-8") as fh:
         fh.write("\nOne more sentence for the narrative.\n")
     report = build.build_site(cases, out, packets=False)
-    done = calls.take()
     assert report.written and not report.unchanged
-    assert done["assess_file"] == 1 and done["case_view"] == 1 and done["case_pages"] == 1
+    assert report.made["assess"] == 1 and report.made["view"] == 1 and report.made["case"] == 1
+    assert report.taken["assess"] == 2 and report.taken["case"] == 2
     # the species pages show only the slug, id and key of the cases using them:
     # unchanged by the narrative, so they are reused, not redone
-    assert "species_files" not in done
+    assert "species" not in report.made and report.taken["species"] >= 3
     after = _files(out)
     assert after["cases/ammonia.html"] == before["cases/ammonia.html"]
     assert after["cases/calcination.html"] != before["cases/calcination.html"]
@@ -156,15 +144,16 @@ def test_a_template_change_re_renders_pages_but_not_assessments_or_figures(proje
     real = build.build_settings
     monkeypatch.setattr(build, "build_settings", lambda *a, **k: dataclasses.replace(
         real(*a, **k), templates=key("a changed template")))
-    calls = Calls(monkeypatch)
     report = build.build_site(cases, out, packets=False)
-    done = calls.take()
     assert report.written
-    assert "assess_file" not in done and "case_view" not in done  # reused from the cache
-    assert done["case_pages"] == 3 and done["species_files"] >= 3
+    # assessments and views (figures, derivation) reused from the cache
+    assert "assess" not in report.made and "view" not in report.made
+    assert report.taken["assess"] == 3 and report.taken["view"] == 3
+    assert report.made["case"] == 3 and report.made["species"] >= 3
+    assert report.made["register"] == 1
 
 
-def test_a_corrupt_cache_entry_is_rebuilt_and_reported_never_served(project, monkeypatch):
+def test_a_corrupt_cache_entry_is_rebuilt_and_reported_never_served(project):
     cases, out = project / "cases", project / "site"
     build.build_site(cases, out, packets=False)
     good = _files(out)
@@ -173,9 +162,8 @@ def test_a_corrupt_cache_entry_is_rebuilt_and_reported_never_served(project, mon
         if entry.is_file():
             entry.write_bytes(entry.read_bytes().replace(b"ammonia", b"ammonix"))
     (out / MANIFEST).unlink()  # force a rebuild (the inputs did not change)
-    calls = Calls(monkeypatch)
     report = build.build_site(cases, out, packets=False)
-    assert calls.take()["assess_file"] >= 1
+    assert report.made["assess"] >= 1
     assert report.corrupt and any("assess entry" in c for c in report.corrupt)
     assert any("damaged cache entries" in line for line in report.lines())
     after = _files(out)
@@ -217,15 +205,32 @@ def test_the_cache_folder_cannot_be_inside_the_site(project):
 
 
 def test_a_signature_or_kept_revision_is_part_of_the_case_key(project):
-    settings = build.build_settings(False)
+    settings = build_settings(False)
     path = project / "cases" / "ammonia.md"
-    k0 = build.case_key(path, settings)
+
+    def key_now(s=settings) -> str:
+        return case_key(read_case_inputs(path), s)
+
+    k0 = key_now()
     (project / "cases" / "ammonia.signatures").write_text("x", encoding="utf-8")
-    k1 = build.case_key(path, settings)
+    k1 = key_now()
     (project / "cases" / "trusted-keys.txt").write_text("y", encoding="utf-8")
-    k2 = build.case_key(path, settings)
+    k2 = key_now()
     (project / "cases" / "ammonia").mkdir()
     (project / "cases" / "ammonia" / "rev-1.md").write_text("z", encoding="utf-8")
-    k3 = build.case_key(path, settings)
+    k3 = key_now()
     assert len({k0, k1, k2, k3}) == 4
-    assert build.case_key(path, dataclasses.replace(settings, library="other")) != k3
+    assert key_now(dataclasses.replace(settings, library="other")) != k3
+    assert key_now(dataclasses.replace(settings, methods="other")) != k3
+
+
+def test_a_case_file_the_reader_refuses_is_a_failure_naming_it_and_the_others_build(project):
+    cases, out = project / "cases", project / "site"
+    with open(cases / "huge.md", "wb") as fh:
+        fh.truncate(MAX_FILE_BYTES + 1)  # refused by the reader, before any parsing
+    report = build.build_site(cases, out, packets=False)
+    assert report.built == ("ammonia", "calcination", "hydrogenation")
+    assert [Path(f.file).name for f in report.failed] == ["huge.md"]
+    assert report.failed[0].problems[0].startswith(f"{cases / 'huge.md'}: the file is larger than")
+    assert report.made["assess"] == 3  # the refused file is not assessed
+    assert "huge.md" in (out / "index.html").read_text("utf-8")

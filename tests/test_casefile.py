@@ -11,7 +11,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from dossier.model.case import Case, Phase, Status, Verdict
-from dossier.casefile.load import MAX_FILE_BYTES, SCHEMA, load_case, locate_keys, parse_case_text
+from dossier.casefile.load import MAX_FILE_BYTES, load_case, parse_case_text
+from dossier.casefile.locate import locate_keys
+from dossier.casefile.schema import SCHEMA
 from dossier.errors import CaseError
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -7,7 +7,8 @@ import numpy as np
 import pytest
 
 from dossier.engine.derivation import derive
-from dossier.library.lookup import ConstantCp, Library
+from dossier.library.lookup import Library
+from dossier.library.models import ConstantCp
 from dossier.engine.thermo import ReactionThermo, temperature_grid
 
 LIB = Library.default()

@@ -15,7 +15,8 @@ from hypothesis import given, settings, strategies as st
 
 from dossier.engine.equilibrium import EqSpecies, EquilibriumSystem
 from dossier.library.lookup import Library
-from dossier.engine.thermo import R, ReactionThermo
+from dossier.constants import R
+from dossier.engine.thermo import ReactionThermo
 
 LIB = Library.default()
 

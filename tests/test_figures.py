@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from dossier.render import figures
-from dossier.build.pipeline import assess_file
+from dossier.build.assessing import assess_file
 from dossier.library.lookup import Library
 
 sys.path.insert(0, str(Path(__file__).parent))

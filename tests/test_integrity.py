@@ -8,7 +8,11 @@ from pathlib import Path
 
 import pytest
 
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import load_case
+from dossier.engine.settings import DEFAULT
 from dossier.errors import CaseError, LibraryError, SpeciesError
+from dossier.library.lookup import Library
 from dossier.review.digest import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
                                check_recorded_reviews, digest_for_case, short_digest,
                                without_review_tables)
@@ -201,12 +205,12 @@ def test_canonical_json_escapes_non_ascii_and_has_no_whitespace():
 
 
 CASE_TEXT = """+++
-title = "Hydrogen burn"
+title = "Intermediate burn"
 revision = 2
 status = "submitted"
-reaction = "intermediate B(l) + 2 H2(g) + O2(g) -> 2 H2O(l)"
+reaction = "intermediate B(l) + 9.25 O2(g) -> 8 CO2(g) + 4.5 H2O(l) + 0.5 N2(g)"
 temperature = ["20 degC", "78 degC"]
-inerts = {{ "N2(g)" = "0.5 mol" }}
+inerts = {{ "Ar(g)" = "0.5 mol" }}
 
 [[species]]
 name = "intermediate B"
@@ -221,14 +225,32 @@ Narrative.
 """
 
 
-def test_digest_for_case_reads_the_case_and_the_species_it_uses(tmp_path):
+def _used_ids(path) -> set[str]:
+    """The record ids the assessment itself reports using: its reaction terms, and the
+    decomposition products of the energetic screening (intermediate B has N and O)."""
+    lib = Library.default()
+    a = assess_case(load_case(path), lib)
+    products = set()
+    for _name, label, phase in DEFAULT.decomposition_products:
+        try:
+            products.add(lib.resolve(label, phase).id)
+        except SpeciesError:
+            pass
+    assert a.safety is not None and a.safety.energetics  # the screening ran
+    return {u.record_id for u in a.species} | products
+
+
+def test_digest_for_case_covers_exactly_the_records_the_assessment_used(tmp_path):
     path = tmp_path / "burn.md"
     path.write_text(CASE_TEXT.format(source="estimate"), encoding="utf-8")
     record, revision, case_id = digest_for_case(path)
     assert (revision, case_id) == (2, "burn")
     assert record.case_file_digest == hashlib.sha256(path.read_bytes()).hexdigest()
-    # Library species of the reaction and the inerts; the case-local species is in the file.
-    assert [sid for sid, _ in record.species_digests] == ["H2(g)", "H2O(l)", "N2(g)", "O2(g)"]
+    ids = [sid for sid, _ in record.species_digests]
+    assert set(ids) == _used_ids(path)
+    # the case's own table is a record the assessment used; the inert is used by
+    # its phase only (written in the case file), so no library record of it is
+    assert "intermediate B(l)" in ids and "H2O(g)" in ids and "Ar(g)" not in ids
     assert digest_for_case(path)[0] == record
 
     path.write_text(CASE_TEXT.format(source="estimaTe"), encoding="utf-8")
@@ -237,12 +259,13 @@ def test_digest_for_case_reads_the_case_and_the_species_it_uses(tmp_path):
 
 def test_digest_for_case_reports_an_unknown_species_with_file_and_line(tmp_path):
     path = tmp_path / "bad.md"
-    path.write_text(CASE_TEXT.format(source="x").replace("O2(g) ->", "Zz9(g) ->"),
+    path.write_text(CASE_TEXT.format(source="x").replace("9.25 O2(g) ->", "9.25 Zz9(g) ->"),
                     encoding="utf-8")
-    with pytest.raises(SpeciesError) as info:
+    with pytest.raises(CaseError) as info:
         digest_for_case(path)
     problem = info.value.problems[0]
     assert (problem.file, problem.line, problem.key) == (str(path), 5, "reaction")
+    assert problem.message.startswith("species 'Zz9(g)': no library species 'Zz9(g)'")
 
 
 def test_digest_for_case_reports_a_missing_file(tmp_path):

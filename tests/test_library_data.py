@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from dossier.chem.formula import hill_formula, parse_formula
-from dossier.library.lookup import PHASES, Library, _default_library
+from dossier.chem.phases import PHASES
+from dossier.library.lookup import Library, default_library
 
 ROOT = Path(__file__).resolve().parents[1]
 DATA = resources.files("dossier").joinpath("data/species.json")
@@ -176,4 +177,4 @@ def test_loading_from_bytes_gives_the_same_library():
 
 
 def test_default_library_is_cached():
-    assert Library.default() is Library.default() is _default_library()
+    assert Library.default() is Library.default() is default_library()

@@ -10,7 +10,8 @@ import pytest
 
 from dossier.assess.evaluate import assess_case
 from dossier.model.case import Status
-from dossier.casefile.load import SCHEMA, parse_case_text
+from dossier.casefile.load import parse_case_text
+from dossier.casefile.schema import SCHEMA
 from dossier.errors import CaseError, DossierError
 from dossier.casefile.template import KEY_HELP, MAX_ID_LENGTH, case_template, write_new_case
 from dossier.library.lookup import Library

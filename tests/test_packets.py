@@ -14,8 +14,10 @@ import pytest
 
 from dossier.render import packets
 from dossier.render import pages as site
+from dossier.render.maths import derivation_view
+from dossier.render.numbers import num
 from dossier.assess.evaluate import CAUTIONS
-from dossier.build.pipeline import assess_file
+from dossier.build.assessing import assess_file
 from dossier.library.lookup import Library
 
 sys.path.insert(0, str(Path(__file__).parent))
@@ -136,9 +138,9 @@ def test_case_packet_contains_the_dossier_as_text(case_text, assessment):
     t = assessment.thermo
     for needle in ("kiln", "Lime kiln trial: calcination of limestone, hot zone",
                    "CaCO3(s) -> CaO(s) + CO2(g)",  # the reaction as written
-                   f"{site.num(t.dG298_kJ_mol, 3)} kJ/mol",  # ΔG° at 298.15 K
-                   f"{site.num(t.profile[0].dG_kJ_mol, 3)}",  # ΔG° at the window ends
-                   f"{site.num(t.profile[-1].dG_kJ_mol, 3)}",
+                   f"{num(t.dG298_kJ_mol, 3)} kJ/mol",  # ΔG° at 298.15 K
+                   f"{num(t.profile[0].dG_kJ_mol, 3)}",  # ΔG° at the window ends
+                   f"{num(t.profile[-1].dG_kJ_mol, 3)}",
                    "favourable in part of the window",
                    "Carbon dioxide monitoring in the kiln hall before the first firing.",
                    "Derivation: kiln, revision 1", "Appendix: methods, thresholds and sources",
@@ -232,7 +234,7 @@ def test_closed_forms_print_as_text_and_fall_back_to_svg():
                   dH_latex=r"\frac{2.0 \cdot 10^{5}}{T} + 3.0 T - 7.0",
                   dS_latex=r"12.0 \log{\left(T \right)} - 5.5",
                   dG_latex=r"\sqrt{T} + 1.0")  # a shape the text form does not cover
-    view = site.derivation_view([seg], "x", 298.15, 400.0, (), ())
+    view = derivation_view([seg], "x", 298.15, 400.0, (), ())
     cp, h, s_, g = view.segments[0].equations
     assert str(cp.html[0]) == ('<span class="closed-form">Δ<sub>r</sub><i>C</i><sub><i>p</i></sub>'
                                '°(<i>T</i>) = 1.5\u00a0×\u00a010<sup>−3</sup>\u00a0<i>T</i><sup>2</sup>'

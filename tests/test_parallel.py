@@ -15,7 +15,9 @@ sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
 import harness  # noqa: E402
 
 import dossier.build.pipeline as build  # noqa: E402
+import dossier.build.serve as serve  # noqa: E402
 from dossier.cli.main import main  # noqa: E402
+from dossier.errors import DossierError  # noqa: E402
 
 GOOD = ("ammonia.md", "calcination.md", "hydrogenation.md")
 
@@ -95,7 +97,7 @@ def test_cli_build_prints_plain_progress_and_a_summary_when_not_a_terminal(cases
 
 
 def test_jobs_must_be_positive(cases, tmp_path):
-    with pytest.raises(build.DossierError, match="--jobs"):
+    with pytest.raises(DossierError, match="--jobs"):
         build.build_site(cases, tmp_path / "site", jobs=0)
 
 
@@ -121,7 +123,7 @@ def test_only_source_changes_rebuild(cases, tmp_path):
         {(2, str(cases / "ammonia" / "rev-1.md"))},
         {(2, str(templates / "case.html"))},
     ]
-    assert list(build.rebuild_on_changes(batches, rebuild, cases, [templates])) == [1, 2, 3, 4, 5]
+    assert list(serve.rebuild_on_changes(batches, rebuild, cases, [templates])) == [1, 2, 3, 4, 5]
 
 
 def test_a_changed_case_is_rebuilt_in_the_served_site(cases, tmp_path):
@@ -130,17 +132,18 @@ def test_a_changed_case_is_rebuilt_in_the_served_site(cases, tmp_path):
     with open(cases / "ammonia.md", "a", encoding="utf-8") as fh:
         fh.write("\nA sentence added while serving.\n")
     batches = [{(2, str(cases / "ammonia.md"))}]
-    reports = list(build.rebuild_on_changes(
+    reports = list(serve.rebuild_on_changes(
         batches, lambda: build.build_site(cases, out, packets=False), cases))
     assert len(reports) == 1 and reports[0].written
     assert 0 < reports[0].rendered < reports[0].reused
+    assert reports[0].made["assess"] == 1 and reports[0].taken["assess"] == 3
     assert "A sentence added while serving." in (out / "cases" / "ammonia.html").read_text("utf-8")
 
 
 def test_server_listens_on_localhost_only_and_serves_the_site(cases, tmp_path):
     out = tmp_path / "site"
     build.build_site(cases, out, packets=False)
-    server = build.site_server(out, port=0)
+    server = serve.site_server(out, port=0)
     thread = threading.Thread(target=server.serve_forever, daemon=True)
     thread.start()
     try:

@@ -14,8 +14,9 @@ from scipy.special import lambertw
 
 from dossier.engine import safety
 from dossier.errors import CaseError, DossierError
+from dossier.constants import R
+from dossier.engine.runaway import runaway_scenario
 from dossier.engine.safety import (
-    R,
     adiabatic_rise,
     cooling_check,
     criticality_class,
@@ -26,7 +27,6 @@ from dossier.engine.safety import (
     heat_entropy_balance,
     mtsr,
     probability_from_tmr,
-    runaway_scenario,
     severity_from_rise,
     td24,
     tmr_ad,
@@ -241,7 +241,7 @@ def test_criticality_boundaries(tp, ms, mt, td, klass):
 def test_criticality_reports_missing_inputs_instead_of_guessing():
     res = criticality_class(320.0, 340.0, None, 420.0)
     assert res.klass is None
-    assert res.missing == ("vessel.mtt (maximum technical temperature)",)
+    assert res.missing == ("maximum technical temperature (MTT)",)  # the method's own words
     assert "could not be assessed because" in res.reason
     res = criticality_class(None, None, None, None)
     assert res.klass is None and len(res.missing) == 4
@@ -264,7 +264,7 @@ def test_criticality_rejects_mtsr_below_process_temperature():
 def test_severity_scale(dT, level):
     # low < 50 K, medium 50-200 K, high > 200 K (Stoessel, Thermal Safety of
     # Chemical Processes, 2008, from memory); edges as documented in
-    # safety.SEVERITY_SOURCE.
+    # safety.severity_source().
     assert severity_from_rise(dT) == level
 
 
@@ -275,7 +275,7 @@ def test_severity_scale(dT, level):
 )
 def test_probability_scale(hours, level):
     # low > 24 h, medium 8-24 h, high < 8 h (Stoessel, 2008, from memory);
-    # edges as documented in safety.PROBABILITY_SOURCE.
+    # edges as documented in safety.probability_source().
     assert probability_from_tmr(hours) == level
 
 
@@ -401,9 +401,9 @@ def test_runaway_scenario_lists_what_is_missing():
     del partial["free_volume_m3"]
     sc = runaway_scenario(**partial)
     assert sc.criticality.klass is None
-    assert "vessel.mtt (maximum technical temperature)" in sc.missing
-    assert safety.INPUT_LABELS["td24"] in sc.missing
-    assert safety.INPUT_LABELS["free_volume"] in sc.missing
+    assert safety.INPUT_WORDS["mtt"] in sc.missing
+    assert safety.INPUT_WORDS["td24"] in sc.missing
+    assert safety.INPUT_WORDS["free_volume"] in sc.missing
     assert sc.td24 is None and sc.tmr_at_mtsr_s is None and sc.probability is None
     assert sc.gas_pressure_Pa is None and sc.gas_volume_normal_m3 is not None
     figures = {fig for fig, _ in sc.blocked}
@@ -422,7 +422,7 @@ def test_runaway_scenario_probability_from_given_td24_without_kinetics():
     assert sc.probability == "low"
     assert sc.td24_origin == "given"
     assert sc.criticality.klass == 1  # 335 < 373 < 450
-    assert safety.INPUT_LABELS["kinetics"] in sc.missing
+    assert safety.INPUT_WORDS["kinetics"] in sc.missing
 
 
 def test_runaway_scenario_with_nothing_given():
@@ -430,4 +430,13 @@ def test_runaway_scenario_with_nothing_given():
     assert sc.dT_ad is None and sc.mtsr is None and sc.criticality.klass is None
     for key in ("heat", "mass", "cp", "t_process", "accumulation", "mtt", "td24",
                 "decomposition_energy", "feed_time", "cooling_ua", "n_gas"):
-        assert safety.INPUT_LABELS[key] in sc.missing
+        assert safety.INPUT_WORDS[key] in sc.missing
+
+
+def test_missing_inputs_are_named_in_the_callers_words():
+    # The engine never names case-file keys: the assessment passes its own labels.
+    labels = {**safety.INPUT_WORDS, "mtt": "vessel.mtt (maximum technical temperature)"}
+    res = criticality_class(320.0, 340.0, None, 420.0, labels)
+    assert res.missing == ("vessel.mtt (maximum technical temperature)",)
+    assert res.reason == ("criticality class could not be assessed because "
+                          "vessel.mtt (maximum technical temperature) is missing")

@@ -15,11 +15,12 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
 from dossier.cli.main import _Group
 from dossier.errors import SignatureError
 from dossier.review.digest import case_digest
-from dossier.review.signatures import (SignedReview, TrustedKey, append_signature,
-                             generate_keypair, load_private_key, load_signatures, make_review,
-                             parse_signatures, parse_trusted_keys, public_key_text, sign_review,
-                             trusted_key_line, verify_reviews, verify_signature,
-                             write_private_key)
+from dossier.review.keys import (TrustedKey, generate_keypair, load_private_key,
+                                 parse_trusted_keys, public_key_text, trusted_key_line,
+                                 write_private_key)
+from dossier.review.signatures import (SignedReview, append_signature, load_signatures,
+                                       make_review, parse_signatures, sign_review, verify_reviews,
+                                       verify_signature)
 from dossier.cli.signing import COMMANDS, key_file_name
 
 FIXTURES = Path(__file__).parent / "fixtures" / "cases"

@@ -13,8 +13,16 @@ from pathlib import Path
 import pytest
 
 from dossier.render import pages as site
+from dossier.render.chemistry import formula_html, reaction_html
+from dossier.render.markdown_html import narrative_html
+from dossier.render.numbers import num, temp, unit
+from dossier.render.slugs import case_slugs, slugify, unique_slugs
 from dossier.build import writer
-from dossier.build.pipeline import CaseFailure, assess_file, build_site, case_view
+from dossier.build.assessing import CaseFailure, assess_file
+from dossier.build.outputs import case_view, render_site
+from dossier.build.pipeline import build_site
+from dossier.engine import energetics, safety
+from dossier.engine.settings import DEFAULT
 from dossier.errors import DossierError
 from dossier.library.lookup import Library
 
@@ -108,9 +116,9 @@ def test_case_page_shows_the_dossier(built):
     assert "C<sub>6</sub>H<sub>5</sub>NO<sub>2</sub>" in page
     assert '<span class="phase">(g)</span>' in page
     # numbers with units, from the assessment
-    assert f"{site.num(a.thermo.dG298_kJ_mol, 3)}\u00a0kJ/mol" in text
-    assert f"{site.temp(a.safety.mtsr_K)}" in text
-    assert site.num(a.safety.adiabatic_rise_K, 1) + "\u00a0K" in text
+    assert f"{num(a.thermo.dG298_kJ_mol, 3)}\u00a0kJ/mol" in text
+    assert f"{temp(a.safety.mtsr_K)}" in text
+    assert num(a.safety.adiabatic_rise_K, 1) + "\u00a0K" in text
     # methods named; the entropy reading in words
     for words in ("Townsend and Tou (1980)", "Stoessel", "Kirchhoff", "UN Manual of Tests",
                   "Entropy of the universe", "the reaction can run forward at standard state"):
@@ -179,12 +187,12 @@ def test_species_pages_link_back_and_mark_local_data():
 
 def test_methods_page_names_methods_and_sources(built):
     text = _plain(_text(built.root / "methods.html"))
-    from dossier.engine import energetics
-    from dossier.engine import safety
-
-    for src in (safety.SEVERITY_SOURCE, safety.PROBABILITY_SOURCE, safety.CRITICALITY_SOURCE,
+    for src in (safety.severity_source(), safety.probability_source(), safety.CRITICALITY_SOURCE,
                 safety.TMR_SOURCE, energetics.UN_SCREENING_SOURCE):
         assert src in text
+    # every method setting is listed, as the integrity record digests it
+    for name in DEFAULT.record():
+        assert name.replace("_", " ") in text
     for words in ("Kirchhoff", "Townsend and Tou, 1980", "TD24", "oxygen balance",
                   "Appendix 6", "Maximum decomposition energy", "p° = 1 bar", "Limits of the methods",
                   "Cautions"):
@@ -241,15 +249,15 @@ def test_payloads_in_every_free_text_field_stay_text():
 
 @pytest.mark.parametrize("payload", harness.PAYLOADS)
 def test_narrative_sanitiser_removes_active_content(payload):
-    out = str(site.narrative_html(payload + "\n\n[x](javascript:alert(1)) ![i](http://h/i.png)"))
+    out = str(narrative_html(payload + "\n\n[x](javascript:alert(1)) ![i](http://h/i.png)"))
     tree = harness.parse(f"<html><body>{out}</body></html>".encode("utf-8"))
     assert [x for x in _executable_bits(tree)] == []
     assert "<img" not in out and "<script" not in out.lower()
 
 
 def test_narrative_keeps_ordinary_markdown():
-    out = str(site.narrative_html("# Route\n\nSee [the reference](https://example.org/a).\n\n"
-                                  "| a | b |\n|---|---|\n| 1 | 2 |\n\nH~2~O *in* water"))
+    out = str(narrative_html("# Route\n\nSee [the reference](https://example.org/a).\n\n"
+                             "| a | b |\n|---|---|\n| 1 | 2 |\n\nH~2~O *in* water"))
     assert "<h3>Route</h3>" in out  # headings sit under the page's own
     assert 'href="https://example.org/a"' in out and 'rel="noopener noreferrer nofollow"' in out
     assert "<table>" in out and "<em>in</em>" in out
@@ -271,37 +279,37 @@ def test_narrative_keeps_ordinary_markdown():
     ("<b>", "&lt;b&gt;"),
 ])
 def test_formula_typesetting(label, expected):
-    assert str(site.formula_html(label)) == expected
+    assert str(formula_html(label)) == expected
 
 
 def test_reaction_typesetting_uses_arrows_and_escapes_names():
-    out = str(site.reaction_html("1/2 O2(g) + intermediate <B>(l) <=> X(aq)"))
+    out = str(reaction_html("1/2 O2(g) + intermediate <B>(l) <=> X(aq)"))
     assert "⇌" in out and '<span class="coeff">1/2</span>' in out
     assert "intermediate &lt;B&gt;" in out and "<B>" not in out
-    assert "→" in str(site.reaction_html("CaCO3(s) -> CaO(s) + CO2(g)"))
+    assert "→" in str(reaction_html("CaCO3(s) -> CaO(s) + CO2(g)"))
 
 
 def test_numbers_carry_true_minus_signs_and_units():
-    assert site.num(-1234.5, 1) == "−1\u202f234.5"
-    assert site.temp(298.15) == "298.15\u00a0K (25.00\u00a0°C)"
-    assert site.unit(None, "K") == "not assessed"
-    assert site.num(-0.0001, 2) == "0.00"  # no negative zero
+    assert num(-1234.5, 1) == "−1\u202f234.5"
+    assert temp(298.15) == "298.15\u00a0K (25.00\u00a0°C)"
+    assert unit(None, "K") == "not assessed"
+    assert num(-0.0001, 2) == "0.00"  # no negative zero
 
 
 @pytest.mark.parametrize("text", ["..", "../etc/passwd", "a/b", "CON", "con", "nul", "", "   ",
                                   "com1", "x" * 300, "ümlaut / slash", "H2O(l)", ".hidden"])
 def test_slugs_are_safe_file_names(text):
-    s = site.slugify(text)
+    s = slugify(text)
     assert re.fullmatch(r"[a-z0-9]+(-[a-z0-9]+)*", s), s
     assert s not in ("con", "nul", "com1", "index", "methods") and len(s) <= 62
 
 
 def test_slugs_keep_distinct_species_apart():
-    slugs = site.unique_slugs([("CO(g)", "CO(g)"), ("Co(g)", "Co(g)"), ("NH4+(aq)", "NH4+(aq)"),
-                               ("NH4(aq)", "NH4(aq)")])
+    slugs = unique_slugs([("CO(g)", "CO(g)"), ("Co(g)", "Co(g)"), ("NH4+(aq)", "NH4+(aq)"),
+                          ("NH4(aq)", "NH4(aq)")])
     assert len(set(slugs.values())) == 4
     assert slugs["NH4+(aq)"] == "nh4-plus-aq"
-    assert site.case_slugs(["a", "a-derivation"])["a-derivation"] != "a-derivation"
+    assert case_slugs(["a", "a-derivation"])["a-derivation"] != "a-derivation"
 
 
 # --------------------------------------------------------------------------
@@ -323,21 +331,13 @@ def test_strict_build_writes_nothing(tmp_path):
     assert sorted(os.listdir(tmp_path)) == ["cases"]  # no temporary folder left behind
 
 
-def test_a_case_that_fails_to_render_is_left_out_and_the_others_build(monkeypatch):
-    import dossier.build.pipeline as build
-
+def test_a_case_that_fails_to_render_is_left_out_and_the_others_build():
     lib = Library.default()
     good = assess_file(harness.CASES / "calcination.md", lib)
-    bad = assess_file(harness.CASES / "ammonia.md", lib)
-    real = build.case_view
-
-    def failing(a, slug, species_slugs):
-        if a.case.id == "ammonia":
-            raise ZeroDivisionError("simulated defect")
-        return real(a, slug, species_slugs)
-
-    monkeypatch.setattr(build, "case_view", failing)
-    out = build.render_site([bad, good], packets=False)
+    # a defect, simulated: an assessed case without its reaction properties cannot
+    # have its figures drawn
+    bad = dataclasses.replace(assess_file(harness.CASES / "ammonia.md", lib), thermo=None)
+    out = render_site([bad, good], packets=False)
     assert [Path(f.file).name for f in out.failed] == ["ammonia.md"]
     assert "internal error" in out.failed[0].problems[0]
     assert "cases/calcination.html" in out.files and "cases/ammonia.html" not in out.files

@@ -16,15 +16,10 @@ import numpy as np
 import pytest
 
 from dossier.errors import LibraryError, SpeciesError
-from dossier.library.lookup import (
-    ConstantCp,
-    Library,
-    Nasa7,
-    Shomate,
-    SpeciesRecord,
-    describe,
-    model_from_dict,
-)
+from dossier.library.lookup import Library
+from dossier.library.models import ConstantCp, Nasa7, Shomate, model_from_dict
+from dossier.library.record import SpeciesRecord
+from dossier.render.species_text import describe
 
 ct = pytest.importorskip("cantera")
 

@@ -59,7 +59,9 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from dossier.chem.formula import hill_formula, parse_formula  # noqa: E402
-from dossier.library.lookup import ConstantCp, Nasa7, Shomate, SpeciesRecord, T_REF  # noqa: E402
+from dossier.constants import T_REF  # noqa: E402
+from dossier.library.models import ConstantCp, Nasa7, Shomate  # noqa: E402
+from dossier.library.record import SpeciesRecord  # noqa: E402
 
 FORMAT = 1
 LIBRARY_VERSION = "2026.12.1"

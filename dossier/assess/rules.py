@@ -1,19 +1,37 @@
-"""The finding rules.  Each is a small named function of the assessment
-(:class:`dossier.assess.evaluate.RuleSubject`) returning zero or more findings with a
-severity, one sentence with the numbers, and the method or source.
+"""The finding rules.  Each is a small named function of the assessment's parts
+(:class:`RuleSubject`) returning zero or more findings with a severity, one
+sentence with the numbers, and the method or source.  :data:`RULES` lists
+them in the order they run; thresholds come from the subject's method
+settings.
 
 Severity words: information < caution < warning < critical.
 """
 from __future__ import annotations
 
-from typing import Iterator
+from dataclasses import dataclass, field
+from typing import Callable, Iterable, Iterator
 
-from dossier.model.findings import Finding, rule
+from dossier.constants import ZERO_CELSIUS
+from dossier.engine.settings import MethodSettings
+from dossier.model.assessment import Safety, SpeciesUse, Thermodynamics
+from dossier.model.case import Case
+from dossier.model.findings import Finding
+from dossier.temperature import kelvin_celsius
+
+
+@dataclass(frozen=True)
+class RuleSubject:
+    """What the finding rules see."""
+
+    case: Case
+    thermo: Thermodynamics
+    safety: Safety | None
+    species: tuple[SpeciesUse, ...]
+    settings: MethodSettings
+    warnings: tuple[str, ...] = field(default=())
 
 THERMO_SOURCE = ("Standard-state thermodynamics from tabulated data: ΔG° = ΔH° − TΔS°, "
                  "ln K = −ΔG°/RT, Kirchhoff's law for the temperature dependence")
-MISMATCH_REL, MISMATCH_ABS = 0.20, 30.0  # fraction, kJ/mol (project threshold, see METHOD_SETTINGS)
-EQ_LIMIT = 0.95
 
 # Short citations for findings; the full provenance text (dossier.engine.safety
 # *_SOURCE) is printed on the methods page.
@@ -25,12 +43,7 @@ PROBABILITY_SHORT = ("Stoessel (2008) probability scale on TMRad, thresholds fro
                      "TMRad by Townsend and Tou (1980), zero-order approximation")
 
 
-def _C(T: float) -> str:
-    return f"{T:.1f} K ({T - 273.15:.1f} °C)"
-
-
-@rule("unfavourable-everywhere")
-def unfavourable(subj) -> Iterator[Finding]:
+def unfavourable(subj: RuleSubject) -> Iterator[Finding]:
     t = subj.thermo
     if t.favourable == "nowhere":
         lo, hi = t.window_K
@@ -44,49 +57,46 @@ def unfavourable(subj) -> Iterator[Finding]:
             reach = ("; even at the case pressure the equilibrium conversion stays below 1 %, so "
                      "the reaction does not proceed as written")
         yield Finding("unfavourable-everywhere", "warning",
-                      f"ΔG° is positive across the whole window {_C(lo)} to {_C(hi)} "
+                      f"ΔG° is positive across the whole window {kelvin_celsius(lo)} to {kelvin_celsius(hi)} "
                       f"({min(g):.1f} to {max(g):.1f} kJ/mol), so K < 1 throughout{reach}. "
                       "It needs product removal, other conditions or another route.",
                       THERMO_SOURCE)
 
 
-@rule("crossover-in-window")
-def crossover_in_window(subj) -> Iterator[Finding]:
+def crossover_in_window(subj: RuleSubject) -> Iterator[Finding]:
     for c in subj.thermo.crossovers_in_window:
         yield Finding("crossover-in-window", "caution",
-                      f"ΔG° changes sign inside the window at {_C(c.T)} (the reaction is "
+                      f"ΔG° changes sign inside the window at {kelvin_celsius(c.T)} (the reaction is "
                       f"{c.direction} that temperature): "
                       "feasibility depends on where in the window the process runs.",
                       THERMO_SOURCE)
 
 
-@rule("equilibrium-limited")
-def equilibrium_limited(subj) -> Iterator[Finding]:
+def equilibrium_limited(subj: RuleSubject) -> Iterator[Finding]:
     t = subj.thermo
     lo, hi = t.window_K
     rows = [r for r in t.profile if lo <= r.T_K <= hi]
-    low = [r for r in rows if r.conversion < EQ_LIMIT]
+    limit = subj.settings.equilibrium_limited_below
+    low = [r for r in rows if r.conversion < limit]
     if low:
         worst = min(low, key=lambda r: r.conversion)
         yield Finding("equilibrium-limited", "caution",
-                      f"Equilibrium conversion of {t.basis} falls below {EQ_LIMIT:.0%} in the "
-                      f"window (lowest {worst.conversion:.1%} at {_C(worst.T_K)}, "
+                      f"Equilibrium conversion of {t.basis} falls below {limit:.0%} in the "
+                      f"window (lowest {worst.conversion:.1%} at {kelvin_celsius(worst.T_K)}, "
                       f"{t.pressure_bar:g} bar): the reaction cannot go to completion there "
                       "without removing a product or changing pressure or temperature.",
                       "Equilibrium of one reaction, ideal gases and pure condensed phases "
                       "(stoichiometric feed)")
 
 
-@rule("extrapolated-data")
-def extrapolated(subj) -> Iterator[Finding]:
+def extrapolated(subj: RuleSubject) -> Iterator[Finding]:
     for w in subj.warnings:
         if "extrapolated" in w or "stable one only" in w:
             yield Finding("extrapolated-data", "caution", w,
                           "Validity ranges of the species data (library records)")
 
 
-@rule("case-local-data")
-def case_local(subj) -> Iterator[Finding]:
+def case_local(subj: RuleSubject) -> Iterator[Finding]:
     for s in subj.species:
         if s.local:
             units = {"hf": (1e3, "kJ/mol"), "s": (1.0, "J/(mol·K)"), "cp": (1.0, "J/(mol·K)")}
@@ -99,43 +109,41 @@ def case_local(subj) -> Iterator[Finding]:
                           + ".", "Case file [[species]] table")
 
 
-@rule("exotherm-severity")
-def exotherm_severity(subj) -> Iterator[Finding]:
+def exotherm_severity(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or s.adiabatic_rise_K is None:
         return
-    sev = {"low": "information", "medium": "warning", "high": "critical"}[s.severity]
+    sev = subj.settings.severity_finding(s.severity)
+    (low, _inf, b1), (medium, _b1, b2), (high, _b2, _top) = subj.settings.severity_bands_K
     yield Finding("exotherm-severity", sev,
                   f"Adiabatic temperature rise {s.adiabatic_rise_K:.1f} K: severity "
-                  f"{s.severity} on the three-level scale (below 50 K low, 50–200 K medium, "
-                  "above 200 K high).", SEVERITY_SHORT)
+                  f"{s.severity} on the three-level scale (below {b1:g} K {low}, {b1:g}–{b2:g} K "
+                  f"{medium}, above {b2:g} K {high}).", SEVERITY_SHORT)
 
 
-@rule("criticality-class")
-def criticality(subj) -> Iterator[Finding]:
+def criticality(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or s.criticality_class is None:
         return
     k = s.criticality_class
-    sev = {1: "information", 2: "caution", 3: "warning", 4: "critical", 5: "critical"}[k]
+    sev = subj.settings.criticality_finding(k)
     yield Finding("criticality-class", sev,
                   "Criticality " + s.criticality_reason.rstrip(".") + ".", CRITICALITY_SHORT)
 
 
-@rule("runaway-probability")
-def probability(subj) -> Iterator[Finding]:
+def probability(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or s.probability is None or s.tmrad_at_mtsr_h is None:
         return
-    sev = {"low": "information", "medium": "warning", "high": "critical"}[s.probability]
+    sev = subj.settings.probability_finding(s.probability)
+    (high, _z, b1), (medium, _b1, b2), (low, _b2, _top) = subj.settings.probability_bands_h
     yield Finding("runaway-probability", sev,
                   f"TMRad at the MTSR is {s.tmrad_at_mtsr_h:.1f} h: probability "
-                  f"{s.probability} (above 24 h low, 8–24 h medium, below 8 h high).",
-                  PROBABILITY_SHORT)
+                  f"{s.probability} (above {b2:g} h {low}, {b1:g}–{b2:g} h {medium}, below "
+                  f"{b1:g} h {high}).", PROBABILITY_SHORT)
 
 
-@rule("cooling-shortfall")
-def cooling(subj) -> Iterator[Finding]:
+def cooling(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or s.cooling_sufficient is None:
         return
@@ -147,14 +155,14 @@ def cooling(subj) -> Iterator[Finding]:
                       "the feed.", "Heat balance of a cooled vessel, common practice")
 
 
-@rule("gas-and-pressure")
-def gas(subj) -> Iterator[Finding]:
+def gas(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or s.scale is None or s.scale.gas_mol <= 0:
         return
     vol = s.gas_volume_normal_m3
     text = (f"The reaction releases {s.scale.gas_mol:.3g} mol of gas per batch "
-            f"({vol:.3g} m³ at 0 °C and 1.01325 bar)")
+            f"({vol:.3g} m³ at {subj.settings.gas_normal_T_K - ZERO_CELSIUS:.0f} °C and "
+            f"{subj.settings.gas_normal_p_Pa / 1e5:g} bar)")
     if s.pressure_at_mtsr_bar is not None:
         text += f", {s.pressure_at_mtsr_bar:.2f} bar in the closed gas space at the MTSR"
         if s.design_pressure_bar is not None:
@@ -165,25 +173,24 @@ def gas(subj) -> Iterator[Finding]:
                   "Ideal-gas law, p = p_initial + n R T / V (closed vessel, no venting)")
 
 
-@rule("enthalpy-mismatch")
-def mismatch(subj) -> Iterator[Finding]:
+def mismatch(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or s.scale is None or s.scale.enthalpy_measured_kJ_mol is None:
         return
     m, c = s.scale.enthalpy_measured_kJ_mol, s.scale.enthalpy_computed_kJ_mol
     diff = abs(m - c)
-    if diff > MISMATCH_ABS or diff > MISMATCH_REL * abs(m):
+    rel, absolute = subj.settings.enthalpy_mismatch_fraction, subj.settings.enthalpy_mismatch_kJ_mol
+    if diff > absolute or diff > rel * abs(m):
         yield Finding("enthalpy-mismatch", "warning",
                       f"Measured reaction enthalpy {m:.1f} kJ/mol differs from the computed "
                       f"{c:.1f} kJ/mol by {diff:.1f} kJ/mol ({diff / abs(m):.0%}; threshold "
-                      f"{MISMATCH_REL:.0%} or {MISMATCH_ABS:.0f} kJ/mol); the measured value is "
+                      f"{rel:.0%} or {absolute:.0f} kJ/mol); the measured value is "
                       "used for the safety figures. Check the species data and the "
                       "measurement (side reactions, phase changes, dilution heat).",
                       "Project threshold (common practice, no source)")
 
 
-@rule("missing-safety-inputs")
-def missing(subj) -> Iterator[Finding]:
+def missing(subj: RuleSubject) -> Iterator[Finding]:
     s = subj.safety
     if s is None or not s.not_assessed:
         return
@@ -194,20 +201,20 @@ def missing(subj) -> Iterator[Finding]:
                   f"{needs}.", "Completeness of the case file")
 
 
-@rule("energetic-species")
-def energetic(subj) -> Iterator[Finding]:
+def energetic(subj: RuleSubject) -> Iterator[Finding]:
     """Species whose decomposition could release much energy, or that carry explosophores."""
     s = subj.safety
     if s is None:
         return
+    level = subj.settings.energetic_species_J_per_g
     for e in s.energetics:
-        high = e.max_decomposition_J_per_g is not None and e.max_decomposition_J_per_g >= 500.0
+        high = e.max_decomposition_J_per_g is not None and e.max_decomposition_J_per_g >= level
         if not (high or e.explosophores):
             continue
         parts = []
         if high:
             parts.append(f"its most exothermic decomposition into simple products would release "
-                         f"{e.max_decomposition_J_per_g:.0f} J/g, above the 500 J/g screening level")
+                         f"{e.max_decomposition_J_per_g:.0f} J/g, above the {level:g} J/g screening level")
         if e.explosophores:
             parts.append("it carries explosophore groups (" + ", ".join(e.explosophores) + ")")
         ob = (f"; oxygen balance {e.oxygen_balance_pct:.1f} %" if e.oxygen_balance_pct is not None
@@ -218,3 +225,34 @@ def energetic(subj) -> Iterator[Finding]:
                       "Measure the decomposition energy and onset (DSC) of the real material.",
                       "UN Manual of Tests and Criteria, Appendix 6 screening (from memory); "
                       "oxygen balance; maximum decomposition energy by linear programming")
+
+
+Rule = tuple[str, Callable[[RuleSubject], Iterable[Finding]]]
+
+#: Every rule, in the order it runs: (stable name, function).
+RULES: tuple[Rule, ...] = (
+    ("unfavourable-everywhere", unfavourable),
+    ("crossover-in-window", crossover_in_window),
+    ("equilibrium-limited", equilibrium_limited),
+    ("extrapolated-data", extrapolated),
+    ("case-local-data", case_local),
+    ("exotherm-severity", exotherm_severity),
+    ("criticality-class", criticality),
+    ("runaway-probability", probability),
+    ("cooling-shortfall", cooling),
+    ("gas-and-pressure", gas),
+    ("enthalpy-mismatch", mismatch),
+    ("missing-safety-inputs", missing),
+    ("energetic-species", energetic),
+)
+
+
+def run_rules(subject: RuleSubject, rules: tuple[Rule, ...] = RULES) -> tuple[Finding, ...]:
+    """Run every rule on ``subject``; most severe first, then in rule order."""
+    out: list[Finding] = []
+    for _name, fn in rules:
+        out.extend(fn(subject))
+    return tuple(sorted(out, key=lambda f: -f.rank))
+
+
+__all__ = ["RuleSubject", "RULES", "run_rules"]

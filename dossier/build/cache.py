@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import shutil
 import tempfile
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -128,6 +129,12 @@ class Cache:
     def put(self, kind: str, entry_key: str, payload: bytes) -> None:
         _atomic_write(self.entry_path(kind, entry_key),
                       _sha(payload).encode("ascii") + b"\n" + payload)
+
+    # -- the folder -----------------------------------------------------------
+    def discard(self) -> None:
+        """Remove the whole cache folder (e.g. one a build created and then wrote
+        nothing from)."""
+        shutil.rmtree(self.root, ignore_errors=True)
 
 
 def _atomic_write(path: Path, data: bytes) -> None:

@@ -57,7 +57,7 @@ def _problem(message: str, out_dir: Path) -> OutputError:
     return OutputError(Problem(message, str(out_dir), None, "--out"))
 
 
-def _is_within(path: Path, parent: Path) -> bool:
+def is_within(path: Path, parent: Path) -> bool:
     try:
         path.relative_to(parent)
         return True
@@ -82,7 +82,7 @@ def check_target(out_dir: Path, protected: Iterable[Path] = ()) -> Path:
                     "the home folder" if g == Path.home().resolve() else "the cases folder")
             raise _problem(f"refusing to write the site into {what} ({g}); "
                            "choose a separate folder such as 'site'", out_dir)
-        if _is_within(g, target):
+        if is_within(g, target):
             raise _problem(f"refusing to write the site into {target}: it contains {g}, "
                            "which a build would replace; choose a separate folder such as 'site'",
                            out_dir)
@@ -258,4 +258,4 @@ def _write_site(target: Path, out_dir: Path, files: Mapping[str, bytes],
 
 
 __all__ = ["MANIFEST", "MARKER", "OutputError", "WriteResult", "check_relpath", "check_target",
-           "read_manifest", "write_site"]
+           "is_within", "read_manifest", "write_site"]

@@ -1,7 +1,7 @@
 """New case files: a template with every key of the case format, explained.
 
 :func:`case_template` returns the text of a new case file.  Every key that
-:data:`dossier.casefile.load.SCHEMA` defines appears in it, each with a comment
+:data:`dossier.casefile.schema.SCHEMA` defines appears in it, each with a comment
 saying what it means, its unit and whether it is required.  Only the
 required top-level keys are active; every optional key and every optional
 table is commented out (``# key = ...``), so that nothing invented is
@@ -22,9 +22,10 @@ import json
 import re
 from pathlib import Path
 
-from dossier.casefile.load import DELIMITER, SCHEMA, FieldSpec, TableSpec
-from dossier.errors import DossierError, Problem
+from dossier.casefile.schema import DELIMITER, SCHEMA, FieldSpec, TableSpec
 from dossier.casefile.units import DIMENSIONS
+from dossier.chem.reaction import parse_reaction
+from dossier.errors import DossierError, Problem
 
 #: Longest case id accepted (the id is the file stem and part of web addresses).
 MAX_ID_LENGTH = 64
@@ -266,8 +267,6 @@ def _table_lines(spec: FieldSpec, examples: dict[str, str]) -> list[str]:
 def _first_reactant(reaction: str | None) -> str | None:
     if not reaction:
         return None
-    from dossier.chem.reaction import parse_reaction
-
     try:
         return parse_reaction(reaction).reactants[0].key
     except DossierError:
@@ -295,6 +294,25 @@ def case_template(case_id: str, reaction: str | None) -> str:
     if basis:
         examples["charge.basis"] = _toml_string(basis)
 
+    out = [DELIMITER]
+    out += _comment_block(
+        f"Case '{case_id}', case-file format 1 (see docs/case-format.md). Lines "
+        "starting with '#' are comments. Every key of the format is listed below "
+        "with what it means and takes. Optional keys and tables are commented out "
+        "as lines '# key = value': remove the '#' in front of such a line when you "
+        "have the real value, and replace the example value. Quantities "
+        "are text with a unit (\"25 degC\", \"5 bar\"); pressures are absolute.")
+    out += _top_level_lines(case_id, reaction)
+    for field in SCHEMA.fields:
+        if field.kind in ("table", "tables"):
+            out += _table_lines(field, examples)
+    out.append(DELIMITER)
+    out += _narrative_lines(case_id)
+    return "\n".join(out)
+
+
+def _top_level_lines(case_id: str, reaction: str | None) -> list[str]:
+    """The header's top-level keys: the required ones filled in, the others commented out."""
     active: dict[str, str] = {
         "format": "1",
         "title": _toml_string(case_id),
@@ -310,15 +328,7 @@ def case_template(case_id: str, reaction: str | None) -> str:
     }
     if reaction:
         active["reaction"] = _toml_string(reaction)
-
-    out = [DELIMITER]
-    out += _comment_block(
-        f"Case '{case_id}', case-file format 1 (see docs/case-format.md). Lines "
-        "starting with '#' are comments. Every key of the format is listed below "
-        "with what it means and takes. Optional keys and tables are commented out "
-        "as lines '# key = value': remove the '#' in front of such a line when you "
-        "have the real value, and replace the example value. Quantities "
-        "are text with a unit (\"25 degC\", \"5 bar\"); pressures are absolute.")
+    out: list[str] = []
     for field in SCHEMA.fields:
         if field.kind in ("table", "tables"):
             continue
@@ -335,11 +345,12 @@ def case_template(case_id: str, reaction: str | None) -> str:
             out.append(f"# reaction = {field.example}")
         else:
             out.append(f"# {field.name} = {field.example}")
-    for field in SCHEMA.fields:
-        if field.kind in ("table", "tables"):
-            out += _table_lines(field, examples)
-    out.append(DELIMITER)
-    out += [
+    return out
+
+
+def _narrative_lines(case_id: str) -> list[str]:
+    """The narrative below the header: a heading and a comment for each section."""
+    return [
         "",
         f"# {case_id}",
         "",
@@ -372,7 +383,6 @@ def case_template(case_id: str, reaction: str | None) -> str:
         "     and of every measured value. -->",
         "",
     ]
-    return "\n".join(out)
 
 
 def write_new_case(cases_dir: str | Path, case_id: str, reaction: str | None) -> Path:
@@ -384,8 +394,6 @@ def write_new_case(cases_dir: str | Path, case_id: str, reaction: str | None) ->
     """
     check_case_id(case_id)
     if reaction is not None:
-        from dossier.chem.reaction import parse_reaction
-
         try:
             parse_reaction(reaction)
         except DossierError as err:

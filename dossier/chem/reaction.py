@@ -47,11 +47,9 @@ from fractions import Fraction
 from numbers import Rational
 from typing import Mapping
 
-from dossier.errors import FormulaError, ReactionError
 from dossier.chem.formula import Formula, parse_formula
-
-#: Phase as written in brackets -> phase stored on the term.
-PHASES: dict[str, str] = {"g": "g", "l": "l", "s": "s", "cr": "s", "aq": "aq"}
+from dossier.chem.phases import PHASE_ALIASES, PHASES
+from dossier.errors import FormulaError, ReactionError
 
 _ARROW_RE = re.compile(r"<=>|⇌|->|→|=")
 _REVERSIBLE_ARROWS = ("<=>", "⇌")
@@ -78,7 +76,7 @@ def _format_coefficient(c: Fraction) -> str:
     return str(c.numerator) if c.denominator == 1 else f"{c.numerator}/{c.denominator}"
 
 
-def _formula_of(label: str) -> Formula | None:
+def formula_of(label: str) -> Formula | None:
     """The label's formula when it reads as one, else None (a library name)."""
     if not label:
         return None
@@ -104,13 +102,13 @@ class Term:
     def __post_init__(self) -> None:
         if not isinstance(self.coefficient, Fraction) or self.coefficient <= 0:
             raise ValueError(f"coefficient must be a positive Fraction, got {self.coefficient!r}")
-        if self.phase not in ("g", "l", "s", "aq"):
+        if self.phase not in PHASES:
             raise ValueError(f"phase must be one of g, l, s, aq, got {self.phase!r}")
 
     @classmethod
     def of(cls, coefficient: Fraction | int, label: str, phase: str) -> "Term":
         """A term whose formula is derived from the label as the parser does."""
-        return cls(Fraction(coefficient), label, PHASES.get(phase, phase), _formula_of(label))
+        return cls(Fraction(coefficient), label, PHASE_ALIASES.get(phase, phase), formula_of(label))
 
     @property
     def key(self) -> str:
@@ -206,7 +204,7 @@ def _parse_term(text: str) -> Term:
         raise ReactionError(
             f"term '{text}' has no phase: write it as {options} or {bare}(aq)"
         )
-    if phase_written not in PHASES:
+    if phase_written not in PHASE_ALIASES:
         raise ReactionError(
             f"term '{text}' has an unknown phase '({phase_written})': "
             f"use {_ALLOWED_PHASES_TEXT}"
@@ -237,12 +235,12 @@ def _parse_term(text: str) -> Term:
     if coefficient == 0:
         raise ReactionError(f"term '{text}' has a zero coefficient: leave the term out")
     glued = _GLUED_RE.match(label)
-    if glued and _formula_of(glued.group("rest")) is not None:
+    if glued and formula_of(glued.group("rest")) is not None:
         raise ReactionError(
             f"term '{text}': put a space between the coefficient and the formula, "
             f"as in '{glued.group('coeff')} {glued.group('rest')}({phase_written})'"
         )
-    return Term(coefficient, label, PHASES[phase_written], _formula_of(label))
+    return Term(coefficient, label, PHASE_ALIASES[phase_written], formula_of(label))
 
 
 def _parse_side(side: str, reaction_text: str, which: str) -> tuple[Term, ...]:

@@ -15,13 +15,17 @@ from pathlib import Path
 
 import click
 
+from dossier.casefile.load import load_case
+from dossier.errors import (EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, DossierError, Problem,
+                            SignatureError)
 from dossier.review import digest as integrity
-from dossier.errors import EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, DossierError, Problem, SignatureError
 from dossier.review.digest import short_digest
-from dossier.review.signatures import (SIGNATURES_SUFFIX, TRUSTED_KEYS_FILE, VERDICTS, ReviewStatus, TrustedKey,
-                      append_signature, generate_keypair, load_private_key, load_signatures,
-                      load_trusted_keys, make_review, public_key_text, signatures_path,
-                      trusted_keys_path, verify_reviews, write_private_key)
+from dossier.review.keys import (TRUSTED_KEYS_FILE, TrustedKey, generate_keypair,
+                                 load_private_key, load_trusted_keys, public_key_text,
+                                 trusted_keys_path, write_private_key_in)
+from dossier.review.signatures import (SIGNATURES_SUFFIX, VERDICTS, ReviewStatus, append_signature,
+                                       load_signatures, make_review, signatures_path,
+                                       verify_reviews)
 
 _DATE_RE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
 _TABLE_HEADER = ("case", "revision", "signer", "verdict", "status")
@@ -71,9 +75,7 @@ def keygen(name: str, role: str, out_dir: Path) -> None:
     """Make a key pair for signing reviews; prints the line for trusted-keys.txt."""
     name, role = name.strip(), role.strip()
     pem, line = generate_keypair(name, role)
-    out_dir.mkdir(mode=0o700, parents=True, exist_ok=True)
-    path = out_dir / key_file_name(name)
-    write_private_key(path, pem)
+    path = write_private_key_in(out_dir, key_file_name(name), pem)
     click.echo(f"Private key written to {path} (mode 0600: only you can read it).")
     click.echo("Keep it secret: not in the cases folder, not under version control.")
     click.echo("")
@@ -181,8 +183,6 @@ def verify(cases_dir: Path) -> None:
 
     # Verdicts recorded in the case files' [[review]] tables name the digest
     # they accepted; a case changed since then is reported the same way.
-    from dossier.casefile.load import load_case
-
     for case_file in sorted(cases_dir.glob("*.md")):
         try:
             case = load_case(case_file)

@@ -26,7 +26,8 @@ from typing import Callable, Sequence
 
 import numpy as np
 
-from dossier.engine.thermo import T_REF, ReactionThermo
+from dossier.constants import T_REF
+from dossier.engine.thermo import ReactionThermo
 
 
 @dataclass(frozen=True)
@@ -153,19 +154,25 @@ def derive(thermo: ReactionThermo, t_low: float, t_high: float,
             dS_latex=tex(s_exprs[i]), dG_latex=tex(g),
         ))
 
-    def piecewise(exprs: Sequence) -> Callable[[np.ndarray], np.ndarray]:
-        branches = []
-        for i, (a, b) in enumerate(bounds):
-            cond = T <= b if i < len(bounds) - 1 else sp.true
-            branches.append((exprs[i], cond))
-        f = sp.lambdify(T, sp.Piecewise(*branches), modules="numpy")
-        return lambda x: np.asarray(f(np.asarray(x, dtype=float)), dtype=float) * np.ones_like(
-            np.asarray(x, dtype=float))
-
     hs = [h_exprs[i] for i in range(len(bounds))]
     ss = [s_exprs[i] for i in range(len(bounds))]
     gs = [sp.expand(h - T * s) for h, s in zip(hs, ss)]
     return Derivation(
         segments=tuple(segments),
-        dH=piecewise(hs), dS=piecewise(ss), dG=piecewise(gs), dCp=piecewise(dcp_pieces),
+        dH=_numeric(T, bounds, hs), dS=_numeric(T, bounds, ss), dG=_numeric(T, bounds, gs),
+        dCp=_numeric(T, bounds, dcp_pieces),
     )
+
+
+def _numeric(T, bounds: Sequence[tuple[float, float]], exprs: Sequence
+             ) -> Callable[[np.ndarray], np.ndarray]:
+    """The per-segment closed forms as one numpy function of T (for checking them)."""
+    import sympy as sp
+
+    branches = []
+    for i, (_a, b) in enumerate(bounds):
+        cond = T <= b if i < len(bounds) - 1 else sp.true
+        branches.append((exprs[i], cond))
+    f = sp.lambdify(T, sp.Piecewise(*branches), modules="numpy")
+    return lambda x: np.asarray(f(np.asarray(x, dtype=float)), dtype=float) * np.ones_like(
+        np.asarray(x, dtype=float))

@@ -1,6 +1,5 @@
 """Energetic-material screening: oxygen balance, explosophore groups, the
-UN Appendix 6 screening for explosive properties, and the maximum
-decomposition energy by linear programming.
+UN Appendix 6 screening for explosive properties.
 
 Pure computation, no I/O.  Enthalpies in J/mol, energies per mass in J/g
 (the unit the UN screening threshold is written in), temperatures in K.
@@ -14,29 +13,20 @@ Provenance
   US Army TM 9-1300-214, Military Explosives (1984) - from memory.
 * Chemical groups (Table A6.1) and the screening clauses (a)-(c): see
   :data:`UN_SCREENING_SOURCE` and :data:`GROUPS_SOURCE`.
-* Maximum decomposition energy: maximise the heat released over
-  non-negative amounts of a fixed set of simple products subject to the
-  element balance - a linear programme (our formulation; the products and
-  their enthalpies of formation come from the caller, i.e. the species
-  library).  It is solved here by enumerating the vertices of the feasible
-  set (see :func:`_min_cost_vertex`), not by a general LP library: the
-  programme is tiny (about a dozen products, a handful of elements) and
-  importing a general solver would cost more start-up time than the whole
-  rest of ``dossier evaluate``.
+* Maximum decomposition energy: see :mod:`dossier.engine.decomposition`.
 """
 from __future__ import annotations
 
-import itertools
 import math
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Literal, Mapping, Sequence, Union
 
-import numpy as np
-
 from dossier.chem.elements import ATOMIC_WEIGHTS
-from dossier.errors import CaseError, FormulaError, SpeciesError
 from dossier.chem.formula import Formula, parse_formula
+from dossier.constants import ZERO_CELSIUS
+from dossier.engine.settings import DEFAULT, MethodSettings
+from dossier.errors import CaseError, FormulaError
 
 FormulaLike = Union[Formula, str, Mapping[str, "float | Fraction | int"]]
 
@@ -79,7 +69,7 @@ OXYGEN_BALANCE_ASSUMPTIONS = (
 )
 
 
-def _composition(formula: FormulaLike) -> tuple[dict[str, float], int, str]:
+def composition_of(formula: FormulaLike) -> tuple[dict[str, float], int, str]:
     """Element counts (floats), charge and a display text for a formula."""
     if isinstance(formula, Formula):
         return {el: float(n) for el, n in formula.elements}, formula.charge, formula.text
@@ -101,7 +91,7 @@ def _composition(formula: FormulaLike) -> tuple[dict[str, float], int, str]:
     return comp, 0, text
 
 
-def _molar_mass(comp: Mapping[str, float]) -> float:
+def molar_mass_of(comp: Mapping[str, float]) -> float:
     return float(sum(ATOMIC_WEIGHTS[el] * n for el, n in comp.items()))
 
 
@@ -113,7 +103,7 @@ def oxygen_balance(formula_or_composition: FormulaLike) -> float:
     :data:`OXYGEN_BALANCE_ASSUMPTIONS`; an element with no assumed product
     raises :class:`FormulaError`.
     """
-    comp, charge, text = _composition(formula_or_composition)
+    comp, charge, text = composition_of(formula_or_composition)
     if charge:
         raise FormulaError(f"oxygen balance needs a neutral formula; '{text}' has charge {charge:+d}")
     unknown = sorted(el for el in comp if el not in OXYGEN_PER_ATOM and el not in HALOGENS)
@@ -141,7 +131,7 @@ def oxygen_balance(formula_or_composition: FormulaLike) -> float:
     comp_rest["H"] = h - h_bound
     for el in _NONMETALS_WITH_OXIDES:
         demand += OXYGEN_PER_ATOM[el] * comp_rest.get(el, 0.0)
-    M = _molar_mass(comp)
+    M = molar_mass_of(comp)
     return -1600.0 * demand / M
 
 
@@ -286,7 +276,7 @@ def find_explosophores(smiles: str | None, formula: FormulaLike | None = None) -
     if mol is None:
         raise FormulaError(f"cannot read SMILES '{smiles}'")
     if formula is not None:
-        want, _, text = _composition(formula)
+        want, _, text = composition_of(formula)
         got = _smiles_formula(Chem, mol)
         if {k: round(v, 6) for k, v in want.items()} != {k: round(v, 6) for k, v in got.items()}:
             raise FormulaError(
@@ -315,10 +305,6 @@ def find_explosophores(smiles: str | None, formula: FormulaLike | None = None) -
 # UN Appendix 6 screening for explosive properties
 # --------------------------------------------------------------------------
 
-UN_ENERGY_THRESHOLD_J_PER_G = 500.0
-UN_ONSET_THRESHOLD_K = 500.0 + 273.15
-UN_OXYGEN_BALANCE_THRESHOLD = -200.0
-
 UN_SCREENING_SOURCE = (
     "UN Recommendations on the Transport of Dangerous Goods, Manual of Tests "
     "and Criteria, Appendix 6 (screening procedures), explosive properties: "
@@ -333,6 +319,13 @@ UN_SCREENING_SOURCE = (
     "equivalent wording of REACH Annex VII, column 2; not against the UN "
     "text itself (paragraph numbers are therefore not given)."
 )
+
+#: What the screening calls its two measured inputs when they are missing, in its
+#: own words; the assessment passes case-file keys for the same two.
+SCREENING_WORDS: dict[str, str] = {
+    "energy": "exothermic decomposition energy (e.g. DSC)",
+    "onset": "onset of exothermic decomposition",
+}
 
 Outcome = Literal["no further tests", "not excluded", "undecided"]
 
@@ -365,20 +358,23 @@ def un_screening(
     decomposition_energy_J_per_g: float | None = None,
     onset_K: float | None = None,
     organic: bool | None = None,
+    settings: MethodSettings = DEFAULT,
+    labels: Mapping[str, str] = SCREENING_WORDS,
 ) -> ScreeningResult:
     """Apply the Appendix 6 screening clauses (a), (b), (c) in that order.
 
     ``groups`` may be passed precomputed; otherwise they are looked for in
     ``smiles`` (RDKit needed).  ``organic`` defaults to "contains carbon
     and hydrogen".  The decomposition energy is the exothermic energy as a
-    positive number (e.g. from DSC), J/g; ``onset_K`` its onset, K.
+    positive number (e.g. from DSC), J/g; ``onset_K`` its onset, K.  The
+    thresholds come from ``settings``; missing inputs are named with
+    ``labels`` (keys ``energy`` and ``onset``).
     """
     notes: list[str] = []
-    missing: list[str] = []
     ob = None
     comp = None
     if formula is not None:
-        comp, _, _ = _composition(formula)
+        comp, _, _ = composition_of(formula)
         try:
             ob = oxygen_balance(formula)
         except FormulaError as exc:
@@ -392,309 +388,107 @@ def un_screening(
         if not math.isfinite(e) or e < 0:
             raise CaseError("decomposition energy for the UN screening must be a "
                             f"non-negative number of J/g (heat released), got {decomposition_energy_J_per_g!r}")
-    extra = groups.extra_hits
-    if extra:
+    if groups.extra_hits:
         notes.append("extra alerts (not in Table A6.1, not used by the screening): "
-                     + ", ".join(h.name for h in extra))
-
-    def result(outcome: Outcome, clause: str | None, reason: str) -> ScreeningResult:
-        return ScreeningResult(outcome, clause, reason, groups, ob, tuple(missing), tuple(notes))
-
-    # (a) no explosophore groups
-    un_hits = groups.un_hits
-    if groups.checked and not un_hits:
-        return result("no further tests", "(a)",
-                      "no chemical group associated with explosive properties "
-                      "(Table A6.1) is present in the molecule")
-    # (b) only oxygen-bearing groups and OB < -200
-    b_possible = True
-    if groups.checked:
-        if all(h.contains_oxygen for h in un_hits):
-            if ob is not None and ob < UN_OXYGEN_BALANCE_THRESHOLD:
-                return result("no further tests", "(b)",
-                              f"the groups present ({', '.join(h.name for h in un_hits)}) all "
-                              f"include oxygen and the oxygen balance {ob:.1f} % is below "
-                              f"{UN_OXYGEN_BALANCE_THRESHOLD:g}")
-            if ob is None:
-                missing.append("formula (for the oxygen balance)")
-            else:
-                b_possible = False
-        else:
-            b_possible = False
-    # (c) organic, decomposition energy < 500 J/g and onset < 500 degC
-    c_possible = True
-    if organic is False:
-        c_possible = False
-    elif decomposition_energy_J_per_g is not None and onset_K is not None:
-        if organic is None:
-            missing.append("whether the substance is organic (formula)")
-        elif (decomposition_energy_J_per_g < UN_ENERGY_THRESHOLD_J_PER_G
-              and onset_K < UN_ONSET_THRESHOLD_K):
-            return result("no further tests", "(c)",
-                          f"organic substance with exothermic decomposition energy "
-                          f"{decomposition_energy_J_per_g:.0f} J/g < "
-                          f"{UN_ENERGY_THRESHOLD_J_PER_G:g} J/g and onset "
-                          f"{onset_K - 273.15:.0f} degC < 500 degC")
-        else:
-            c_possible = False
-    else:
-        if decomposition_energy_J_per_g is None:
-            missing.append("decomposition.energy (exothermic decomposition energy, e.g. DSC)")
-        if onset_K is None:
-            missing.append("decomposition.onset (onset of exothermic decomposition)")
-
-    if not groups.checked:
-        missing.insert(0, f"explosophore groups ({groups.note})")
-        return result("undecided", None,
-                      "the screening could not be completed: " + "; ".join(missing) + " missing")
-    found = ", ".join(f"{h.name} ({h.matches} {'site' if h.matches == 1 else 'sites'})"
-                      for h in un_hits)
-    if (b_possible or c_possible) and missing:
-        return result("undecided", None,
-                      f"groups associated with explosive properties are present ({found}); "
-                      "the screening could still exclude explosive properties, but "
-                      + "; ".join(missing) + (" is" if len(missing) == 1 else " are") + " missing")
-    why = [f"groups associated with explosive properties are present ({found})"]
-    if any(not h.contains_oxygen for h in un_hits):
-        why.append("clause (b) does not apply: not every group includes oxygen")
-    elif ob is not None:
-        why.append(f"clause (b) does not apply: oxygen balance {ob:.1f} % is not below -200")
-    if organic is False:
-        why.append("clause (c) does not apply: not an organic substance")
-    elif decomposition_energy_J_per_g is not None and onset_K is not None:
-        why.append(f"clause (c) does not apply: decomposition energy "
-                   f"{decomposition_energy_J_per_g:.0f} J/g, onset {onset_K - 273.15:.0f} degC")
-    return result("not excluded", None,
-                  "; ".join(why) + "; the acceptance procedure for explosive properties "
-                  "is needed")
+                     + ", ".join(h.name for h in groups.extra_hits))
+    screen = _Screening(groups, ob, organic, decomposition_energy_J_per_g, onset_K, settings,
+                        labels, notes)
+    return screen.run()
 
 
-# --------------------------------------------------------------------------
-# Maximum decomposition energy (linear programme)
-# --------------------------------------------------------------------------
+class _Screening:
+    """One application of the clauses (a), (b), (c), collecting what is missing (a
+    working record of one call)."""
 
-WATER_CHOICE = (
-    "Recommended product set: CO2(g), CO(g), H2O(g), N2(g), O2(g), H2(g), "
-    "C(s), plus HX(g) for halogens. Water is taken as gas: at the "
-    "temperatures of a decomposition the water formed is vapour, and the "
-    "heat of condensation is only given back on cooling to 25 degC, where "
-    "it no longer drives the runaway. Passing H2O(l) instead gives the "
-    "larger figure quoted as 'H2O liquid' (the programme picks whichever "
-    "of the candidates releases more heat)."
-)
+    def __init__(self, groups: GroupCheck, ob: float | None, organic: bool | None,
+                 energy: float | None, onset: float | None, settings: MethodSettings,
+                 labels: Mapping[str, str], notes: list[str]):
+        self.groups, self.ob, self.organic = groups, ob, organic
+        self.energy, self.onset, self.settings, self.labels = energy, onset, settings, labels
+        self.notes, self.missing = notes, []
 
+    def result(self, outcome: Outcome, clause: str | None, reason: str) -> ScreeningResult:
+        return ScreeningResult(outcome, clause, reason, self.groups, self.ob,
+                               tuple(self.missing), tuple(self.notes))
 
-@dataclass(frozen=True)
-class Product:
-    """A candidate decomposition product: name, formula and ΔfH° (J/mol)."""
+    def run(self) -> ScreeningResult:
+        un_hits = self.groups.un_hits
+        # (a) no explosophore groups
+        if self.groups.checked and not un_hits:
+            return self.result("no further tests", "(a)",
+                               "no chemical group associated with explosive properties "
+                               "(Table A6.1) is present in the molecule")
+        done, b_possible = self.clause_b(un_hits)
+        if done is not None:
+            return done
+        done, c_possible = self.clause_c()
+        if done is not None:
+            return done
+        return self.conclusion(un_hits, b_possible, c_possible)
 
-    name: str
-    formula: FormulaLike
-    hf_J_per_mol: float
+    def clause_b(self, un_hits) -> tuple[ScreeningResult | None, bool]:
+        """(b) only oxygen-bearing groups and an oxygen balance below the limit."""
+        limit = self.settings.un_oxygen_balance_pct
+        if not self.groups.checked:
+            return None, True
+        if not all(h.contains_oxygen for h in un_hits):
+            return None, False
+        if self.ob is not None and self.ob < limit:
+            return self.result("no further tests", "(b)",
+                               f"the groups present ({', '.join(h.name for h in un_hits)}) all "
+                               f"include oxygen and the oxygen balance {self.ob:.1f} % is below "
+                               f"{limit:g}"), True
+        if self.ob is None:
+            self.missing.append("formula (for the oxygen balance)")
+            return None, True
+        return None, False
 
+    def clause_c(self) -> tuple[ScreeningResult | None, bool]:
+        """(c) organic, decomposition energy and onset below the limits."""
+        energy_limit, onset_limit = self.settings.un_energy_J_per_g, self.settings.un_onset_K
+        if self.organic is False:
+            return None, False
+        if self.energy is None or self.onset is None:
+            if self.energy is None:
+                self.missing.append(self.labels["energy"])
+            if self.onset is None:
+                self.missing.append(self.labels["onset"])
+            return None, True
+        if self.organic is None:
+            self.missing.append("whether the substance is organic (formula)")
+            return None, True
+        if self.energy < energy_limit and self.onset < onset_limit:
+            return self.result("no further tests", "(c)",
+                               f"organic substance with exothermic decomposition energy "
+                               f"{self.energy:.0f} J/g < {energy_limit:g} J/g and onset "
+                               f"{self.onset - ZERO_CELSIUS:.0f} degC < "
+                               f"{onset_limit - ZERO_CELSIUS:.0f} degC"), True
+        return None, False
 
-@dataclass(frozen=True)
-class Component:
-    """One substance of a mixture: formula, ΔfH° (J/mol) and mass fraction."""
-
-    formula: FormulaLike
-    hf_J_per_mol: float
-    mass_fraction: float = 1.0
-    name: str | None = None
-
-
-@dataclass(frozen=True)
-class DecompositionEnergy:
-    """Maximum heat released by decomposition into the given products.
-
-    ``energy_J_per_g`` is positive when heat is released.  ``products`` are
-    the amounts chosen, in mol per gram of substance/mixture (only those
-    above 1e-12 mol/g); ``molar_mass`` is set for a single substance, so
-    that :attr:`products_per_mole` can give mol per mol.
-    """
-
-    energy_J_per_g: float
-    products: tuple[tuple[str, float], ...]
-    threshold_J_per_g: float
-    exceeds_threshold: bool
-    molar_mass: float | None = None
-    note: str = field(default=WATER_CHOICE, repr=False)
-
-    @property
-    def energy_J_per_kg(self) -> float:
-        return self.energy_J_per_g * 1000.0
-
-    @property
-    def products_per_mole(self) -> tuple[tuple[str, float], ...] | None:
-        if self.molar_mass is None:
-            return None
-        return tuple((n, x * self.molar_mass) for n, x in self.products)
-
-
-MAX_BASES = 50_000
-"""Most column subsets :func:`_min_cost_vertex` will enumerate (C(k, r) for k
-products and r independent elements); C(12, 6) = 924 for a dozen products."""
-
-_FEASIBILITY_TOL = 1e-10
-"""Tolerance on amounts and on the element balance, relative to the largest
-element amount (the right-hand side is scaled to 1 before solving)."""
-
-
-def _min_cost_vertex(A: np.ndarray, rhs: np.ndarray, cost: np.ndarray) -> np.ndarray | None:
-    """Minimise ``cost @ n`` subject to ``A n = rhs``, ``n >= 0``; None if infeasible.
-
-    Vertex enumeration, exact up to rounding.  The feasible set
-    {n >= 0 : A n = rhs} is a polyhedron whose vertices are its basic
-    feasible solutions: with r = rank(A), a vertex has its non-zero
-    amounts on r linearly independent columns and is the unique solution
-    of the equations restricted to them.  A linear objective that is
-    bounded below on a non-empty polyhedron with vertices attains its
-    minimum at a vertex (fundamental theorem of linear programming).  So
-    every subset of r columns is tried: subsets that are not linearly
-    independent are skipped, the restricted system is solved (in the
-    least-squares sense, which also tells whether ``rhs`` can be matched at
-    all), solutions that are negative or do not match ``rhs`` within
-    :data:`_FEASIBILITY_TOL` are dropped, and the cheapest of the rest is
-    returned (the first in subset order among equally cheap ones).
-
-    Here the objective is bounded: every column (a product's element
-    counts) is non-negative and non-zero, so ``A n = rhs`` with ``n >= 0``
-    bounds every amount.  Columns whose elements are missing from ``rhs``
-    must be zero and are removed first, which keeps the enumeration small
-    (C(7, 4) = 35 subsets for a CHNO substance and seven products).  The
-    caller scales ``rhs`` to a largest entry of 1.
-    """
-    m, k = A.shape
-    x_full = np.zeros(k)
-    absent = rhs <= 0.0
-    usable = ~np.any(A[absent] > 0.0, axis=0)
-    if not np.any(usable):
-        return x_full if not np.any(rhs > _FEASIBILITY_TOL) else None
-    cols = np.flatnonzero(usable)
-    A_u = A[:, cols]
-    r = int(np.linalg.matrix_rank(A_u))
-    n_bases = math.comb(len(cols), r)
-    if n_bases > MAX_BASES:
-        raise SpeciesError(
-            f"{len(cols)} candidate products over {r} independent elements give "
-            f"{n_bases} bases to enumerate, more than the {MAX_BASES} this solver allows; "
-            "pass fewer candidate products"
-        )
-    subsets = np.array(list(itertools.combinations(range(len(cols)), r)), dtype=int)
-    B = np.transpose(A_u[:, subsets], (1, 0, 2))          # (bases, m, r)
-    U, sv, Vt = np.linalg.svd(B, full_matrices=False)     # sv descending
-    independent = sv[:, -1] > sv[:, 0] * max(m, r) * np.finfo(float).eps
-    sv_safe = np.where(independent[:, None], sv, 1.0)
-    x = np.einsum("nij,ni->nj", Vt, np.einsum("nmi,m->ni", U, rhs) / sv_safe)
-    residual = np.einsum("nmi,ni->nm", B, x) - rhs
-    tol_balance = _FEASIBILITY_TOL * max(1.0, float(np.max(np.abs(A_u))))
-    feasible = (independent
-                & np.all(np.abs(residual) <= tol_balance, axis=1)
-                & np.all(x >= -_FEASIBILITY_TOL, axis=1))
-    if not np.any(feasible):
-        return None
-    x = np.maximum(x[feasible], 0.0)
-    chosen = subsets[feasible]
-    objective = np.einsum("ni,ni->n", x, cost[cols][chosen])
-    best = int(np.argmin(objective))
-    x_full[cols[chosen[best]]] = x[best]
-    return x_full
-
-
-def _solve_max_energy(b: dict[str, float], hf_per_g: float, charge_per_g: float,
-                      products: Sequence[Product], label: str,
-                      molar_mass: float | None) -> DecompositionEnergy:
-    if abs(charge_per_g) > 1e-9:
-        raise CaseError(f"{label}: the charges do not balance, so no set of neutral "
-                        "products can be formed")
-    if not products:
-        raise SpeciesError(f"{label}: no candidate decomposition products were given")
-    prod_comp = []
-    for p in products:
-        comp, charge, text = _composition(p.formula)
-        if charge:
-            raise SpeciesError(f"candidate product '{p.name}' ({text}) is charged; "
-                               "products must be neutral")
-        hf = float(p.hf_J_per_mol)
-        if not math.isfinite(hf):
-            raise SpeciesError(f"candidate product '{p.name}' has no finite enthalpy of formation")
-        prod_comp.append(comp)
-    uncovered = sorted(el for el, n in b.items() if n > 0 and not any(el in c for c in prod_comp))
-    if uncovered:
-        raise SpeciesError(
-            f"{label}: no candidate product contains {', '.join(uncovered)}; add a product "
-            "for each element (at least the element in its reference state)"
-        )
-    elements = sorted(set(b) | {el for c in prod_comp for el in c})
-    A = np.array([[c.get(el, 0.0) for c in prod_comp] for el in elements])
-    rhs = np.array([b.get(el, 0.0) for el in elements])
-    cost = np.array([float(p.hf_J_per_mol) for p in products])
-    # Scale the amounts so that the tolerances are relative to them.
-    scale = max(float(np.max(np.abs(rhs))), 1e-300)
-    x = _min_cost_vertex(A, rhs / scale, cost)
-    if x is None:
-        raise SpeciesError(
-            f"{label}: the candidate products cannot balance the elements "
-            "(no non-negative amounts of them carry exactly the elements of the "
-            "substance); include each element in its reference state "
-            "(C(s), H2(g), N2(g), O2(g), ...)"
-        )
-    x = x * scale
-    h_products = float(cost @ x)
-    energy = hf_per_g - h_products
-    chosen = tuple((p.name, float(n)) for p, n in zip(products, x) if n > 1e-12)
-    return DecompositionEnergy(
-        energy, chosen, UN_ENERGY_THRESHOLD_J_PER_G,
-        energy >= UN_ENERGY_THRESHOLD_J_PER_G, molar_mass,
-    )
-
-
-def max_decomposition_energy(formula: FormulaLike, hf_J_per_mol: float,
-                             products: Sequence[Product]) -> DecompositionEnergy:
-    """Maximum decomposition energy of one substance, J/g (positive = released).
-
-    Minimises Σ n_j ΔfH°_j over n_j >= 0 subject to the element balance
-    (a linear programme, solved exactly by vertex enumeration in
-    :func:`_min_cost_vertex`), per gram of substance, and compares
-    the result with the 500 J/g of the UN screening.
-    """
-    comp, charge, text = _composition(formula)
-    M = _molar_mass(comp)
-    hf = float(hf_J_per_mol)
-    if not math.isfinite(hf):
-        raise CaseError(f"enthalpy of formation of '{text}' must be a finite number")
-    b = {el: n / M for el, n in comp.items()}
-    return _solve_max_energy(b, hf / M, charge / M, products, f"'{text}'", M)
-
-
-def max_decomposition_energy_mixture(components: Sequence[Component],
-                                     products: Sequence[Product]) -> DecompositionEnergy:
-    """Maximum decomposition energy of a mixture (reaction mass), J/g.
-
-    Element amounts and enthalpies per gram are summed with the mass
-    fractions, which must add up to 1 (within 1e-6).
-    """
-    if not components:
-        raise CaseError("a mixture needs at least one component")
-    total = sum(float(c.mass_fraction) for c in components)
-    if any(float(c.mass_fraction) < 0 for c in components) or abs(total - 1.0) > 1e-6:
-        raise CaseError(f"mass fractions of the mixture must be non-negative and add up to 1, "
-                        f"they add up to {total:.6g}")
-    b: dict[str, float] = {}
-    hf_per_g = 0.0
-    charge_per_g = 0.0
-    names = []
-    for c in components:
-        comp, charge, text = _composition(c.formula)
-        M = _molar_mass(comp)
-        w = float(c.mass_fraction)
-        hf = float(c.hf_J_per_mol)
-        if not math.isfinite(hf):
-            raise CaseError(f"enthalpy of formation of '{c.name or text}' must be a finite number")
-        for el, n in comp.items():
-            b[el] = b.get(el, 0.0) + w * n / M
-        hf_per_g += w * hf / M
-        charge_per_g += w * charge / M
-        names.append(c.name or text)
-    return _solve_max_energy(b, hf_per_g, charge_per_g, products,
-                             "mixture of " + ", ".join(names), None)
+    def conclusion(self, un_hits, b_possible: bool, c_possible: bool) -> ScreeningResult:
+        missing = self.missing
+        if not self.groups.checked:
+            missing.insert(0, f"explosophore groups ({self.groups.note})")
+            return self.result("undecided", None, "the screening could not be completed: "
+                               + "; ".join(missing) + " missing")
+        found = ", ".join(f"{h.name} ({h.matches} {'site' if h.matches == 1 else 'sites'})"
+                          for h in un_hits)
+        if (b_possible or c_possible) and missing:
+            return self.result("undecided", None,
+                               f"groups associated with explosive properties are present "
+                               f"({found}); the screening could still exclude explosive "
+                               "properties, but " + "; ".join(missing)
+                               + (" is" if len(missing) == 1 else " are") + " missing")
+        why = [f"groups associated with explosive properties are present ({found})"]
+        if any(not h.contains_oxygen for h in un_hits):
+            why.append("clause (b) does not apply: not every group includes oxygen")
+        elif self.ob is not None:
+            why.append(f"clause (b) does not apply: oxygen balance {self.ob:.1f} % is not below "
+                       f"{self.settings.un_oxygen_balance_pct:g}")
+        if self.organic is False:
+            why.append("clause (c) does not apply: not an organic substance")
+        elif self.energy is not None and self.onset is not None:
+            why.append(f"clause (c) does not apply: decomposition energy "
+                       f"{self.energy:.0f} J/g, onset {self.onset - ZERO_CELSIUS:.0f} degC")
+        return self.result("not excluded", None, "; ".join(why) + "; the acceptance procedure "
+                           "for explosive properties is needed")

@@ -28,9 +28,8 @@ from typing import Sequence
 
 import numpy as np
 
+from dossier.constants import P_STANDARD
 from dossier.engine.roots import brent
-
-P_STANDARD = 1.0e5  # Pa
 
 CONDENSED = ("s", "l")
 

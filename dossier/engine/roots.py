@@ -48,6 +48,48 @@ def _value(f: Callable[[float], float], x: float) -> float:
     return y
 
 
+def _check_arguments(a: float, b: float, xtol: float, rtol: float, maxiter: int) -> None:
+    if not (math.isfinite(a) and math.isfinite(b)):
+        raise ValueError(f"the bracket [{a!r}, {b!r}] must be finite")
+    if not xtol > 0.0:
+        raise ValueError(f"xtol must be positive, got {xtol!r}")
+    if not rtol >= 4 * EPS:
+        raise ValueError(f"rtol must be at least 4 eps = {4 * EPS:.3g}, got {rtol!r}")
+    if maxiter < 0:
+        raise ValueError(f"maxiter must not be negative, got {maxiter!r}")
+
+
+def _next_step(a: float, b: float, c: float, fa: float, fb: float, fc: float, d: float,
+               e: float, m: float, tol: float) -> tuple[float, float]:
+    """Brent's choice of the next step d (and the one before it, e): interpolation when
+    it is inside the bracket and shrinks fast enough, else bisection."""
+    if abs(e) < tol or abs(fa) <= abs(fb):
+        # The last steps were too small, or f did not decrease: bisect.
+        return m, m
+    s = fb / fa
+    if a == c:
+        # Only two distinct points: linear interpolation (secant).
+        p = 2.0 * m * s
+        q = 1.0 - s
+    else:
+        # Inverse quadratic interpolation through a, b, c.
+        q = fa / fc
+        r = fb / fc
+        p = s * (2.0 * m * q * (q - r) - (b - a) * (r - 1.0))
+        q = (q - 1.0) * (r - 1.0) * (s - 1.0)
+    if p > 0.0:
+        q = -q
+    else:
+        p = -p
+    s = e
+    e = d
+    if 2.0 * p < 3.0 * m * q - abs(tol * q) and p < abs(0.5 * s * q):
+        # The interpolated point is inside the bracket and the step shrinks fast
+        # enough: accept it.
+        return p / q, e
+    return m, m
+
+
 def brent(f: Callable[[float], float], a: float, b: float, *,
           xtol: float = 1e-12, rtol: float = 4 * EPS, maxiter: int = 200) -> float:
     """A zero of ``f`` in the bracket [a, b] by Brent's method.
@@ -62,17 +104,8 @@ def brent(f: Callable[[float], float], a: float, b: float, *,
     most ``maxiter + 2`` times; if the tolerance is not met by then,
     :class:`ConvergenceError` (a :class:`RuntimeError`) is raised.
     """
-    a = float(a)
-    b = float(b)
-    if not (math.isfinite(a) and math.isfinite(b)):
-        raise ValueError(f"the bracket [{a!r}, {b!r}] must be finite")
-    if not xtol > 0.0:
-        raise ValueError(f"xtol must be positive, got {xtol!r}")
-    if not rtol >= 4 * EPS:
-        raise ValueError(f"rtol must be at least 4 eps = {4 * EPS:.3g}, got {rtol!r}")
-    if maxiter < 0:
-        raise ValueError(f"maxiter must not be negative, got {maxiter!r}")
-
+    a, b = float(a), float(b)
+    _check_arguments(a, b, xtol, rtol, maxiter)
     fa = _value(f, a)
     fb = _value(f, b)
     if fa != 0.0 and fb != 0.0 and (fa > 0.0) == (fb > 0.0):
@@ -102,33 +135,7 @@ def brent(f: Callable[[float], float], a: float, b: float, *,
             )
         iterations += 1
 
-        if abs(e) < tol or abs(fa) <= abs(fb):
-            # The last steps were too small, or f did not decrease: bisect.
-            d = e = m
-        else:
-            s = fb / fa
-            if a == c:
-                # Only two distinct points: linear interpolation (secant).
-                p = 2.0 * m * s
-                q = 1.0 - s
-            else:
-                # Inverse quadratic interpolation through a, b, c.
-                q = fa / fc
-                r = fb / fc
-                p = s * (2.0 * m * q * (q - r) - (b - a) * (r - 1.0))
-                q = (q - 1.0) * (r - 1.0) * (s - 1.0)
-            if p > 0.0:
-                q = -q
-            else:
-                p = -p
-            s = e
-            e = d
-            if 2.0 * p < 3.0 * m * q - abs(tol * q) and p < abs(0.5 * s * q):
-                # The interpolated point is inside the bracket and the
-                # step shrinks fast enough: accept it.
-                d = p / q
-            else:
-                d = e = m
+        d, e = _next_step(a, b, c, fa, fb, fc, d, e, m, tol)
 
         a, fa = b, fb
         if abs(d) > tol:

@@ -22,11 +22,10 @@ from typing import Protocol, Sequence
 
 import numpy as np
 
+from dossier.constants import R, T_REF
 from dossier.engine.roots import brent
+from dossier.model.assessment import Crossover
 
-R = 8.314462618  # J/(mol K), CODATA 2018 (exact: N_A * k)
-T_REF = 298.15  # K, reference temperature of the tables
-P_STANDARD = 1.0e5  # Pa, IUPAC standard pressure (1 bar)
 
 
 class ThermoModel(Protocol):
@@ -45,19 +44,6 @@ class ThermoModel(Protocol):
     def h(self, T): ...
 
     def s(self, T): ...
-
-
-@dataclass(frozen=True)
-class Crossover:
-    """A temperature where ΔrG° = 0.
-
-    ``direction`` says how ΔrG° changes sign with rising temperature:
-    ``"favourable above"`` (ΔrG° goes from + to −), ``"favourable below"``
-    (− to +), or ``"touches zero"`` for a tangent root with no sign change.
-    """
-
-    T: float
-    direction: str
 
 
 @dataclass(frozen=True)
@@ -184,18 +170,20 @@ def _direction(g_before: float, g_after: float) -> str:
 
 
 def temperature_grid(t_low: float, t_high: float, extra: Sequence[float] = (),
-                     step: float = 5.0, max_points: int = 41) -> np.ndarray:
+                     steps: Sequence[float] = (1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0,
+                                               200.0, 250.0, 500.0, 1000.0),
+                     min_step: float = 5.0, max_points: int = 41) -> np.ndarray:
     """A readable grid over a window: round steps, the ends, plus given points.
 
-    The step is widened (5, 10, 20, 25, 50, 100 K ...) until the window needs
-    at most ``max_points`` rows; the window ends and every extra temperature
-    are kept exactly as given.
+    The step is the first of ``steps`` not below ``min_step`` with which the
+    window needs at most ``max_points`` rows (the assessment passes its method
+    settings); the window ends and every extra temperature are kept exactly as
+    given.
     """
-    steps = [1.0, 2.0, 5.0, 10.0, 20.0, 25.0, 50.0, 100.0, 200.0, 250.0, 500.0, 1000.0]
     span = t_high - t_low
     chosen = steps[-1]
     for st in steps:
-        if st >= step and span / st <= max_points - 2:
+        if st >= min_step and span / st <= max_points - 2:
             chosen = st
             break
     inner = np.arange(np.ceil(t_low / chosen) * chosen, t_high, chosen)

@@ -25,8 +25,7 @@ from pathlib import Path
 from types import MappingProxyType
 from typing import Literal, Mapping
 
-#: Standard pressure p° = 1 bar (IUPAC); the default operating pressure.
-STANDARD_PRESSURE = 1.0e5
+from dossier.constants import P_STANDARD
 
 
 class Status(enum.StrEnum):
@@ -151,7 +150,7 @@ class Case:
     owner: str | None = None
     gate: str | None = None
     meeting: datetime.date | None = None    # the board meeting this case goes to
-    pressure: float = STANDARD_PRESSURE     # Pa, absolute
+    pressure: float = P_STANDARD             # Pa, absolute (default: p° = 1 bar)
     inerts: tuple[tuple[str, float], ...] = ()  # (label with phase, mol per mol of basis)
     charge: Charge | None = None
     vessel: Vessel | None = None

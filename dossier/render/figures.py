@@ -19,13 +19,13 @@ from typing import TYPE_CHECKING, Sequence
 
 import numpy as np
 
-if TYPE_CHECKING:  # pragma: no cover
-    from dossier.assess.evaluate import ProfileRow, Safety
-    from dossier.library.lookup import SpeciesRecord
-    from dossier.engine.thermo import Crossover, ReactionThermo
+from dossier.constants import T_REF, ZERO_CELSIUS
+from dossier.temperature import kelvin_celsius
 
-T0 = 273.15  # K at 0 degC
-T_REF = 298.15  # K
+if TYPE_CHECKING:  # pragma: no cover
+    from dossier.engine.thermo import ReactionThermo
+    from dossier.library.record import SpeciesRecord
+    from dossier.model.assessment import Crossover, ProfileRow, Safety
 
 # Our own calm, print-first palette: ink, one muted blue, greys.
 INK = "#1f2a33"
@@ -100,7 +100,8 @@ def _draw(fn):
 
 
 def _celsius_axis(ax) -> None:
-    sec = ax.secondary_xaxis("top", functions=(lambda t: t - T0, lambda c: c + T0))
+    sec = ax.secondary_xaxis("top", functions=(lambda t: t - ZERO_CELSIUS,
+                                               lambda c: c + ZERO_CELSIUS))
     sec.set_xlabel("t / °C", color=GREY)
     sec.tick_params(colors=GREY)
 
@@ -175,9 +176,9 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
             note.append("extrapolated")
         if any(abs(t - c.T) < 1e-9 for c in shown):
             note.append("crossover")
-        rows.append((f"{t:.2f}", f"{t - T0:.2f}", _f(g, 3), ", ".join(note)))
+        rows.append((f"{t:.2f}", f"{t - ZERO_CELSIUS:.2f}", _f(g, 3), ", ".join(note)))
     if shown:
-        cross = "; ".join(f"ΔG° = 0 at {c.T:.1f} K ({c.T - T0:.1f} °C), {c.direction}"
+        cross = "; ".join(f"ΔG° = 0 at {kelvin_celsius(c.T, 1)}, {c.direction}"
                           for c in shown)
     else:
         cross = "ΔG° does not change sign in the range shown"
@@ -221,7 +222,7 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
         return _svg(fig)
 
     svg = _draw(draw)
-    rows = tuple((f"{r.T_K:.2f}", f"{r.T_K - T0:.2f}", f"{r.conversion * 100:.2f}")
+    rows = tuple((f"{r.T_K:.2f}", f"{r.T_K - ZERO_CELSIUS:.2f}", f"{r.conversion * 100:.2f}")
                  for r in profile)
     extra = f" {note}" if note else ""
     caption = (f"Equilibrium conversion of {basis} against temperature across the operating "
@@ -326,7 +327,7 @@ def ladder_figure(safety: "Safety") -> Figure | None:
             if placed and y - placed[-1] < min_gap:
                 y = placed[-1] + min_gap
             placed.append(y)
-            ax.annotate(f"{LADDER_TEX.get(label, label)}  {t:.1f} K ({t - T0:.1f} °C)", (5.6, t),
+            ax.annotate(f"{LADDER_TEX.get(label, label)}  {kelvin_celsius(t, 1)}", (5.6, t),
                         xytext=(6.0, y), textcoords="data", va="center", color=INK,
                         arrowprops=dict(arrowstyle="-", color=GREY, linewidth=0.6))
         if "T_p" in values and "MTSR" in values:
@@ -346,7 +347,7 @@ def ladder_figure(safety: "Safety") -> Figure | None:
         return _svg(fig)
 
     svg = _draw(draw)
-    rows = tuple((LADDER_TEXT.get(label, label), f"{t:.2f}", f"{t - T0:.2f}", meaning)
+    rows = tuple((LADDER_TEXT.get(label, label), f"{t:.2f}", f"{t - ZERO_CELSIUS:.2f}", meaning)
                  for label, t, meaning in levels)
     order = " < ".join(LADDER_TEXT.get(label, label) for label, _, _ in levels)
     cls_text = f"criticality class {cls}" if cls is not None else "criticality class not assessed"

@@ -16,6 +16,7 @@ weasyprint is imported only inside these functions.
 """
 from __future__ import annotations
 
+import logging
 import mimetypes
 import posixpath
 import urllib.parse
@@ -123,8 +124,6 @@ class PdfResult:
 def lay_out(html_text: str, page_path: str, files: Mapping[str, bytes],
             variant: str | None = PDF_VARIANT) -> Printed:
     """Lay out ``html_text`` as if it were the page at site path ``page_path``."""
-    import logging
-
     from weasyprint import HTML
 
     fetcher = site_fetcher(files)

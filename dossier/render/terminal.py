@@ -1,21 +1,21 @@
 """Plain-text rendering of an assessment for the terminal (`dossier evaluate`)."""
 from __future__ import annotations
 
-from dossier.assess.evaluate import Assessment
+from dossier.model.assessment import Assessment, Safety, Thermodynamics
+from dossier.temperature import kelvin_celsius
 
 
 def _T(T: float) -> str:
-    return f"{T:.2f} K ({T - 273.15:.2f} °C)"
+    return kelvin_celsius(T, 2)
 
 
 def _opt(value, fmt: str, unit: str = "") -> str:
     return "not assessed" if value is None else (format(value, fmt) + (f" {unit}" if unit else ""))
 
 
-def render_assessment(a: Assessment) -> str:
-    t = a.thermo
+def _thermo_lines(t: Thermodynamics) -> list[str]:
+    """Reaction, window, standard values, crossovers and the profile table."""
     out: list[str] = []
-    out.append(f"{a.case_id} (revision {a.revision}, {a.status}): {a.title}")
     out.append(f"reaction   {t.reaction}")
     out.append(f"window     {_T(t.window_K[0])} to {_T(t.window_K[1])} at {t.pressure_bar:g} bar")
     out.append(f"at 298.15 K: ΔH° = {t.dH298_kJ_mol:.2f} kJ/mol, ΔS° = {t.dS298_J_molK:.2f} J/(mol·K), "
@@ -41,36 +41,44 @@ def render_assessment(a: Assessment) -> str:
                f"of reaction; X_eq = equilibrium conversion of {t.basis}"
                + (" (all or nothing: " + t.equilibrium_note + ")" if t.equilibrium_mode == "all-or-nothing" else "")
                + ". * extrapolated, < requested with --at.")
-    s = a.safety
-    if s is not None:
-        out.append("")
-        out.append("Thermal safety (cooling-failure scenario)")
-        sc = s.scale
-        if sc:
-            out.append(f"  reaction enthalpy used   {sc.enthalpy_used_kJ_mol:.1f} kJ/mol ({sc.enthalpy_origin}"
-                       + (f"; computed {sc.enthalpy_computed_kJ_mol:.1f}" if sc.enthalpy_origin == "measured" else "")
-                       + ")")
-            out.append(f"  heat released per batch  {sc.heat_released_kJ:,.0f} kJ ({sc.heat_released_kJ_per_kg:.1f} kJ/kg)")
-            out.append(f"  entropy per batch        system {sc.entropy_system_kJ_per_K:,.2f} kJ/K, surroundings "
-                       f"{sc.entropy_surroundings_kJ_per_K:,.2f} kJ/K, universe {sc.entropy_universe_kJ_per_K:,.2f} kJ/K")
-            out.append(f"                           {sc.entropy_reading}")
-        out.append(f"  adiabatic rise ΔT_ad     {_opt(s.adiabatic_rise_K, '.1f', 'K')}"
-                   + (f" (severity {s.severity})" if s.severity else ""))
-        out.append(f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}")
-        out.append(f"  MTT                      {_T(s.mtt_K) if s.mtt_K else 'not given'}")
-        out.append(f"  TD24                     {_T(s.td24_K) + ' (' + s.td24_origin + ')' if s.td24_K else 'not assessed'}")
-        out.append(f"  TMRad at MTSR            {_opt(s.tmrad_at_mtsr_h, '.1f', 'h')}"
-                   + (f" (probability {s.probability})" if s.probability else ""))
-        out.append(f"  criticality class        {s.criticality_class or 'not assessed'}")
-        out.append(f"  after decomposition      {_T(s.final_temperature_K) if s.final_temperature_K else 'not assessed'}")
-        out.append(f"  cooling margin           {_opt(s.cooling_margin_kW, '.1f', 'kW')}")
-        no_gas = sc is not None and sc.gas_mol <= 0
-        out.append("  pressure at MTSR         " + ("no gas released" if no_gas else
-                                                    _opt(s.pressure_at_mtsr_bar, '.2f', 'bar')))
-        for fig, miss in s.not_assessed:
-            out.append(f"  not assessed: {fig} — needs {', '.join(miss)}")
-        for n in s.notes:
-            out.append(f"  note: {n}")
+    return out
+
+
+def _safety_lines(s: Safety) -> list[str]:
+    """The cooling-failure scenario: heat, entropy and the figures of the scenario."""
+    out: list[str] = ["", "Thermal safety (cooling-failure scenario)"]
+    sc = s.scale
+    if sc:
+        out.append(f"  reaction enthalpy used   {sc.enthalpy_used_kJ_mol:.1f} kJ/mol ({sc.enthalpy_origin}"
+                   + (f"; computed {sc.enthalpy_computed_kJ_mol:.1f}" if sc.enthalpy_origin == "measured" else "")
+                   + ")")
+        out.append(f"  heat released per batch  {sc.heat_released_kJ:,.0f} kJ ({sc.heat_released_kJ_per_kg:.1f} kJ/kg)")
+        out.append(f"  entropy per batch        system {sc.entropy_system_kJ_per_K:,.2f} kJ/K, surroundings "
+                   f"{sc.entropy_surroundings_kJ_per_K:,.2f} kJ/K, universe {sc.entropy_universe_kJ_per_K:,.2f} kJ/K")
+        out.append(f"                           {sc.entropy_reading}")
+    out.append(f"  adiabatic rise ΔT_ad     {_opt(s.adiabatic_rise_K, '.1f', 'K')}"
+               + (f" (severity {s.severity})" if s.severity else ""))
+    out.append(f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}")
+    out.append(f"  MTT                      {_T(s.mtt_K) if s.mtt_K else 'not given'}")
+    out.append(f"  TD24                     {_T(s.td24_K) + ' (' + s.td24_origin + ')' if s.td24_K else 'not assessed'}")
+    out.append(f"  TMRad at MTSR            {_opt(s.tmrad_at_mtsr_h, '.1f', 'h')}"
+               + (f" (probability {s.probability})" if s.probability else ""))
+    out.append(f"  criticality class        {s.criticality_class or 'not assessed'}")
+    out.append(f"  after decomposition      {_T(s.final_temperature_K) if s.final_temperature_K else 'not assessed'}")
+    out.append(f"  cooling margin           {_opt(s.cooling_margin_kW, '.1f', 'kW')}")
+    no_gas = sc is not None and sc.gas_mol <= 0
+    out.append("  pressure at MTSR         " + ("no gas released" if no_gas else
+                                                _opt(s.pressure_at_mtsr_bar, '.2f', 'bar')))
+    for fig, miss in s.not_assessed:
+        out.append(f"  not assessed: {fig} — needs {', '.join(miss)}")
+    for n in s.notes:
+        out.append(f"  note: {n}")
+    return out
+
+
+def _finding_lines(a: Assessment) -> list[str]:
+    """Findings with their sources, the data notes not already shown, and the cautions."""
+    out: list[str] = []
     if a.findings:
         out.append("")
         out.append("Findings")
@@ -88,4 +96,16 @@ def render_assessment(a: Assessment) -> str:
     out.append("Cautions")
     for c in a.cautions:
         out.append(f"  - {c}")
+    return out
+
+
+def render_assessment(a: Assessment) -> str:
+    out = [f"{a.case_id} (revision {a.revision}, {a.status}): {a.title}"]
+    out.extend(_thermo_lines(a.thermo))
+    if a.safety is not None:
+        out.extend(_safety_lines(a.safety))
+    out.extend(_finding_lines(a))
     return "\n".join(out)
+
+
+__all__ = ["render_assessment"]

@@ -4,23 +4,26 @@ For one case: every signed review in ``cases/<id>.signatures`` checked
 against the trusted keys and the current integrity digest; every verdict
 recorded in the case file's ``[[review]]`` tables checked against the same
 digest; and the revision history from the kept earlier revisions
-(``cases/<id>/rev-<N>.md``).  :func:`collect_decisions` reads those files;
-the result is plain data for the pages.
+(``cases/<id>/rev-<N>.md``).  :func:`collect_decisions` works on the files
+already read into a :class:`~dossier.review.inputs.CaseInputs`; the result is
+plain data for the pages.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
-from pathlib import Path
-from typing import TYPE_CHECKING
 
+from dossier.assess.evaluate import assess_case
+from dossier.casefile.load import header_of, parse_source
 from dossier.errors import DossierError
-
-if TYPE_CHECKING:  # pragma: no cover
-    from dossier.assess.evaluate import Assessment
-    from dossier.model.case import Case
-    from dossier.review.digest import IntegrityRecord, RecordedReview
-    from dossier.review.revisions import RevisionHistory
-    from dossier.library.lookup import Library
+from dossier.library.lookup import Library
+from dossier.model.assessment import Assessment
+from dossier.model.case import Case
+from dossier.model.integrity import IntegrityRecord, RecordedReview
+from dossier.review.digest import check_recorded_reviews
+from dossier.review.inputs import CaseInputs
+from dossier.review.revisions import RevisionHistory, history
+from dossier.review.keys import parse_trusted_keys
+from dossier.review.signatures import parse_signatures, verify_reviews
 
 #: How each signature status reads on a page (our own words).
 SIGNATURE_WORDS = {
@@ -51,8 +54,8 @@ class SignatureLine:
 class CaseDecisions:
     signatures: tuple[SignatureLine, ...]
     signature_problems: tuple[str, ...]  # a signature file that could not be read
-    recorded: tuple["RecordedReview", ...]
-    history: "RevisionHistory | None"
+    recorded: tuple[RecordedReview, ...]
+    history: RevisionHistory | None
 
     @property
     def changed_since_decided(self) -> bool:
@@ -66,21 +69,20 @@ class CaseDecisions:
             s.status in ("untrusted-key", "invalid") for s in self.signatures)
 
 
-def _signatures(path: Path, case: "Case", digest: str | None) -> tuple[tuple[SignatureLine, ...], tuple[str, ...]]:
-    from dossier.review.signatures import (load_signatures, load_trusted_keys, signatures_path,
-                          trusted_keys_path, verify_reviews)
-
-    sig_file = signatures_path(path)
-    if not sig_file.exists():
+def _signatures(inputs: CaseInputs, case: Case, digest: str | None
+                ) -> tuple[tuple[SignatureLine, ...], tuple[str, ...]]:
+    sig, keys = inputs.signatures, inputs.trusted_keys
+    if not sig.exists:
         return (), ()
+    if sig.problem or keys.problem:
+        return (), tuple(p for p in (sig.problem, keys.problem) if p)
     try:
-        reviews = load_signatures(sig_file)
-        keys_file = trusted_keys_path(path.parent)
-        trusted = load_trusted_keys(keys_file) if keys_file.exists() else ()
+        reviews = parse_signatures(sig.data or b"", str(sig.path))
+        trusted = parse_trusted_keys(keys.data, str(keys.path)) if keys.data is not None else ()
     except DossierError as err:
         return (), tuple(str(p) for p in err.problems)
     if digest is None:
-        return (), (f"{sig_file.name}: the signatures cannot be checked because the integrity "
+        return (), (f"{sig.path.name}: the signatures cannot be checked because the integrity "
                     "record could not be computed",)
     statuses = verify_reviews(reviews, trusted, digest, case.revision, case_id=case.id)
     lines = tuple(
@@ -91,41 +93,40 @@ def _signatures(path: Path, case: "Case", digest: str | None) -> tuple[tuple[Sig
     return lines, ()
 
 
-def _history(path: Path, case: "Case", assessment: "Assessment",
-             library: "Library") -> "RevisionHistory | None":
-    from dossier.assess.evaluate import assess_case
-    from dossier.casefile.load import load_case, read_header
-    from dossier.review.revisions import archived_revisions, history
-
-    kept = archived_revisions(path)
-    if not kept:
+def _history(inputs: CaseInputs, case: Case, assessment: Assessment,
+             library: Library) -> RevisionHistory | None:
+    if not inputs.revisions:
         return None
     revisions = []
     problems = []
-    for n, rev_path in kept:
+    for kept in inputs.revisions:
+        name = kept.path.name
+        if kept.source is None:
+            problems.append(f"{name}: this kept revision could not be assessed ({kept.problem})")
+            continue
         try:
-            text = rev_path.read_text(encoding="utf-8")
-            old = load_case(rev_path)
-            if old.revision != n:
-                problems.append(f"{rev_path.name}: the file says revision {old.revision}; "
-                                f"its name says {n}")
-            revisions.append((n, read_header(text, str(rev_path)), old.narrative,
+            old = parse_source(kept.source)
+            if old.revision != kept.number:
+                problems.append(f"{name}: the file says revision {old.revision}; "
+                                f"its name says {kept.number}")
+            revisions.append((kept.number, header_of(kept.source), old.narrative,
                               assess_case(old, library)))
-        except (DossierError, OSError, UnicodeDecodeError) as err:
-            msg = "; ".join(str(p) for p in err.problems) if isinstance(err, DossierError) else str(err)
-            problems.append(f"{rev_path.name}: this kept revision could not be assessed ({msg})")
-    current_text = path.read_text(encoding="utf-8")
-    revisions.append((case.revision, read_header(current_text, str(path)), case.narrative,
-                      assessment))
+        except DossierError as err:
+            msg = "; ".join(str(p) for p in err.problems)
+            problems.append(f"{name}: this kept revision could not be assessed ({msg})")
+    revisions.append((case.revision, header_of(inputs.source), case.narrative, assessment))
     return history(case.id, revisions, problems)
 
 
-def collect_decisions(path: Path, case: "Case", assessment: "Assessment",
-                      integrity: "IntegrityRecord | None", library: "Library") -> CaseDecisions:
-    from dossier.review.digest import check_recorded_reviews
-
+def collect_decisions(inputs: CaseInputs, case: Case, assessment: Assessment,
+                      integrity: IntegrityRecord | None, library: Library) -> CaseDecisions:
+    """Signatures, recorded verdicts and revision history of one case, from the files
+    already read into ``inputs`` (nothing is read here)."""
     digest = integrity.digest if integrity else None
-    signatures, sig_problems = _signatures(path, case, digest)
+    signatures, sig_problems = _signatures(inputs, case, digest)
     recorded = check_recorded_reviews(case.reviews, digest) if digest else ()
     return CaseDecisions(signatures=signatures, signature_problems=sig_problems,
-                         recorded=recorded, history=_history(path, case, assessment, library))
+                         recorded=recorded, history=_history(inputs, case, assessment, library))
+
+
+__all__ = ["SIGNATURE_WORDS", "SignatureLine", "CaseDecisions", "collect_decisions"]

@@ -22,27 +22,26 @@ Python writes them (shortest round-trip form); NaN and infinities are
 refused.  Digests are lowercase hexadecimal.
 
 Everything here is pure except :func:`digest_for_case`, which reads one case
-file and the shipped species library.
+file and the shipped species library.  The species records and the settings
+come from the assessment's :class:`~dossier.assess.evaluate.Evaluation`, so
+the digest covers exactly what the assessment used.
 """
 from __future__ import annotations
-
-import re
 
 import hashlib
 import json
 import math
-from dataclasses import dataclass
+import re
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
+from dossier.assess.evaluate import Evaluation, evaluate
+from dossier.casefile.load import CaseSource, parse_source, read_source
+from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.errors import LibraryError
-
-#: Names the serialisation; bump it if the manifest ever changes shape.
-INTEGRITY_FORMAT = "dossier-integrity-1"
-
-#: Hex characters shown in the short display form of a digest.
-SHORT_LENGTH = 12
-
+from dossier.library.lookup import Library
+from dossier.model.integrity import (INTEGRITY_FORMAT, IntegrityRecord, RecordedReview,
+                                     short_digest)
 
 def canonical_json(value: Any) -> str:
     """The canonical JSON text of ``value`` (see the module documentation).
@@ -81,45 +80,6 @@ def sha256_hex(data: bytes) -> str:
     return hashlib.sha256(data).hexdigest()
 
 
-def short_digest(digest: str) -> str:
-    """The first 12 hex characters in groups of four, e.g. ``"ba78 16bf 8f01"``."""
-    head = digest[:SHORT_LENGTH]
-    return " ".join(head[i:i + 4] for i in range(0, len(head), 4))
-
-
-@dataclass(frozen=True)
-class IntegrityRecord:
-    """The integrity digest of one case and the component digests it is made of."""
-
-    digest: str                                   # SHA-256 of the manifest, hex
-    case_file_digest: str                         # SHA-256 of the case file's bytes
-    species_digests: tuple[tuple[str, str], ...]  # (record id, SHA-256 of its canonical JSON)
-    settings_digest: str                          # SHA-256 of the method settings' canonical JSON
-    library_version: str
-    tool_version: str
-    format: str = INTEGRITY_FORMAT
-
-    @property
-    def short(self) -> str:
-        """Short display form for pages: ``"ba78 16bf 8f01"``."""
-        return short_digest(self.digest)
-
-    def manifest(self) -> dict[str, Any]:
-        """The object whose canonical JSON text is hashed into :attr:`digest`."""
-        return {
-            "format": self.format,
-            "case": self.case_file_digest,
-            "species": [[sid, d] for sid, d in self.species_digests],
-            "library_version": self.library_version,
-            "tool_version": self.tool_version,
-            "settings": self.settings_digest,
-        }
-
-    def to_dict(self) -> dict[str, Any]:
-        """The manifest plus the digest itself (for the register and JSON export)."""
-        return {**self.manifest(), "digest": self.digest}
-
-
 def case_digest(case_bytes: bytes, species_records: Iterable[Mapping[str, Any]],
                 library_version: str, tool_version: str,
                 method_settings: Mapping[str, Any]) -> IntegrityRecord:
@@ -156,37 +116,6 @@ def case_digest(case_bytes: bytes, species_records: Iterable[Mapping[str, Any]],
     )
 
 
-# --------------------------------------------------------------------------
-# The assessment-side inputs of one case.  Kept together here so that the
-# wiring to the case loader, the library and the methods can be adjusted in
-# one place.
-# --------------------------------------------------------------------------
-
-
-def _bands(bands) -> list[list[Any]]:
-    """Threshold bands with infinite limits written as null."""
-    return [[level, lo if math.isfinite(lo) else None, hi if math.isfinite(hi) else None]
-            for level, lo, hi in bands]
-
-
-def current_method_settings() -> dict[str, Any]:
-    """The method settings the assessment uses now (thresholds of the methods)."""
-    from dossier.engine import energetics
-    from dossier.engine import safety
-
-    return {
-        "severity_bands_K": _bands(safety.SEVERITY_BANDS),
-        "probability_bands_h": _bands(safety.PROBABILITY_BANDS),
-        "td24_time_s": safety.TD24_TIME_S,
-        "gas_normal_conditions": [safety.T_NORMAL, safety.P_NORMAL],
-        "un_screening": {
-            "energy_J_per_g": energetics.UN_ENERGY_THRESHOLD_J_PER_G,
-            "onset_K": energetics.UN_ONSET_THRESHOLD_K,
-            "oxygen_balance": energetics.UN_OXYGEN_BALANCE_THRESHOLD,
-        },
-    }
-
-
 _REVIEW_HEADER = re.compile(rb"^[ \t]*\[\[[ \t]*review[ \t]*\]\][ \t]*(#.*)?$")
 _TABLE_HEADER = re.compile(rb"^[ \t]*\[")
 _FENCE = re.compile(rb"^\+\+\+[ \t]*$")
@@ -220,18 +149,6 @@ def without_review_tables(data: bytes) -> bytes:
     return b"".join(out)
 
 
-@dataclass(frozen=True)
-class RecordedReview:
-    """A ``[[review]]`` table of the case file, checked against the current digest."""
-
-    name: str
-    role: str
-    date: str
-    verdict: str
-    status: str  # "matches" | "changed since reviewed" | "no digest recorded"
-    explanation: str
-
-
 def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview, ...]:
     """Compare the digest each recorded verdict names with the case as it is now.
 
@@ -256,42 +173,30 @@ def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview
     return tuple(out)
 
 
-def digest_for_case(case_path: str | Path) -> tuple[IntegrityRecord, int, str]:
+def integrity_of(source: CaseSource, evaluation: Evaluation) -> IntegrityRecord:
+    """The integrity record of the case in ``source`` as ``evaluation`` assessed it:
+    the case file's bytes without its ``[[review]]`` tables, exactly the species
+    records the assessment used, the library and tool versions and the method
+    settings it ran with."""
+    a = evaluation.assessment
+    return case_digest(without_review_tables(source.data),
+                       [r.to_dict() for r in evaluation.records],
+                       a.library_version, a.tool_version, evaluation.settings.record())
+
+
+def digest_for_case(case_path: str | Path, library: Library | None = None,
+                    settings: MethodSettings = DEFAULT) -> tuple[IntegrityRecord, int, str]:
     """(integrity record, revision, case id) of the case file at ``case_path``.
 
-    Reads the file and the shipped species library.  The species records are
-    those of the library that the reaction and the inerts name; case-local
-    ``[[species]]`` entries are part of the case file's bytes already.
+    Reads the file once and assesses it (with the shipped library unless one is
+    given), so the record covers what the assessment used and nothing else.
     """
-    from dossier import __version__
-    from dossier.casefile.load import load_case
-    from dossier.errors import CaseError, DossierError, Problem
-    from dossier.chem.reaction import parse_reaction
-    from dossier.library.lookup import Library, normalise_phase
+    source = read_source(case_path)
+    case = parse_source(source)
+    evaluation = evaluate(case, library or Library.default(), settings=settings)
+    return integrity_of(source, evaluation), case.revision, case.id
 
-    path = Path(case_path)
-    try:
-        data = path.read_bytes()
-    except OSError as err:
-        raise CaseError(Problem(f"cannot read the case file: {err.strerror or err}",
-                                str(case_path))) from None
-    case = load_case(path)
-    library = Library.default()
-    local = {(s.name.lower(), normalise_phase(str(s.phase))) for s in case.species}
-    local |= {(s.formula.lower(), normalise_phase(str(s.phase))) for s in case.species}
 
-    labels = [(t.label, t.phase, "reaction") for t in parse_reaction(case.reaction).terms]
-    for inert, _amount in case.inerts:
-        body, _, phase = inert.rstrip(")").rpartition("(")
-        labels.append((body.strip(), phase, f"inerts.{inert}"))
-    records = []
-    for label, phase, key in labels:
-        if (label.lower(), normalise_phase(phase)) in local:
-            continue
-        try:
-            records.append(library.resolve(label, phase).to_dict())
-        except DossierError as err:
-            raise err.located(str(case_path), case.line_of(key), key) from None
-    record = case_digest(without_review_tables(data), records, library.version, __version__,
-                         current_method_settings())
-    return record, case.revision, case.id
+__all__ = ["canonical_json", "sha256_hex", "case_digest", "without_review_tables",
+           "check_recorded_reviews", "integrity_of", "digest_for_case", "IntegrityRecord",
+           "RecordedReview", "INTEGRITY_FORMAT", "short_digest"]

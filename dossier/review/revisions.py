@@ -19,7 +19,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
-from dossier.assess.evaluate import Assessment
+from dossier.model.assessment import Assessment
 
 _REV_FILE = re.compile(r"^rev-(\d{1,4})\.md$")
 

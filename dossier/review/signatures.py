@@ -1,39 +1,43 @@
-"""Signed reviews: Ed25519 keys, the trusted-keys file and per-case signature files.
+"""Signed reviews: the per-case signature files and their verification.
 
 A reviewer's verdict on a revision of a case is recorded as a *signed
 review*: a short block of ``name: value`` lines holding the case id, the
 revision, the integrity digest (:mod:`dossier.review.digest`), who signed in
 which role, when, the verdict and its conditions, the public key and an
 Ed25519 signature over the other lines.  The blocks of one case are appended
-to ``cases/<id>.signatures``; the board's list of keys it trusts is
-``cases/trusted-keys.txt``.  Both formats are documented in
-``docs/signatures.md``.
+to ``cases/<id>.signatures``; the keys (and the board's list of keys it
+trusts, ``cases/trusted-keys.txt``) are :mod:`dossier.review.keys`.  Both
+formats are documented in ``docs/signatures.md``.
 
 The cryptography is the ``cryptography`` package's Ed25519 (RFC 8032); this
 module only formats, parses and compares.  I/O is confined to the functions
-named ``load_*``, ``write_*``, ``append_*`` and :func:`sign_review`.
+named ``load_*``, ``append_*`` and :func:`sign_review`.
 """
 from __future__ import annotations
 
 import base64
-import binascii
 import datetime
 import difflib
 import os
 import re
-import stat
-import unicodedata
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Iterable, Literal
 
-from cryptography.exceptions import InvalidSignature, UnsupportedAlgorithm
-from cryptography.hazmat.primitives import serialization
+from cryptography.exceptions import InvalidSignature
 from cryptography.hazmat.primitives.asymmetric.ed25519 import (Ed25519PrivateKey,
                                                                Ed25519PublicKey)
 
-from dossier.model.case import Verdict
 from dossier.errors import Problem, SignatureError
+from dossier.model.case import Verdict
+from dossier.review.keys import (PUBLIC_KEY_BYTES, TRUSTED_KEYS_FILE, TrustedKey, bad_char,
+                                 decode_b64, decode_utf8, field_text_problem, load_private_key,
+                                 public_key_text, show_text, write_all)
+
+try:
+    import fcntl  # POSIX: locks the signatures file while appending
+except ImportError:  # pragma: no cover - not POSIX
+    fcntl = None  # type: ignore[assignment]
 
 #: Value of the ``format`` line that opens every signed review.
 SIGNATURE_FORMAT = "dossier-review-1"
@@ -47,15 +51,9 @@ SIGNED_FIELDS = FIELDS[:-1]
 
 VERDICTS = tuple(v.value for v in Verdict)
 
-#: The only key type of the trusted-keys file.
-KEY_TYPE = "ed25519"
-
-TRUSTED_KEYS_FILE = "trusted-keys.txt"
 SIGNATURES_SUFFIX = ".signatures"
 
-PUBLIC_KEY_BYTES = 32
 SIGNATURE_BYTES = 64
-_MAX_KEY_FILE_BYTES = 64 * 1024
 
 Status = Literal["valid", "changed-since-signed", "untrusted-key", "invalid"]
 STATUSES: tuple[Status, ...] = ("valid", "changed-since-signed", "untrusted-key", "invalid")
@@ -65,31 +63,6 @@ _FIELD_RE = re.compile(r"([a-z]+):(?: (.*))?", re.DOTALL)
 _REVISION_RE = re.compile(r"[1-9][0-9]{0,8}")
 _DIGEST_RE = re.compile(r"[0-9a-f]{64}")
 _DATE_RE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
-_TRUSTED_RE = re.compile(r"([^ ]+) +([^ ]+) +(.*)")
-_CHAR_NAMES = {"\t": "a tab", "\r": "a carriage return", "\ufeff": "a byte-order mark"}
-# Characters that change the direction of displayed text: refused, so a name
-# cannot be shown differently from what was signed.
-_DIRECTION_MARKS = frozenset("\u200e\u200f\u202a\u202b\u202c\u202d\u202e"
-                             "\u2066\u2067\u2068\u2069\ufeff")
-
-
-# --------------------------------------------------------------------------
-# Data
-# --------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class TrustedKey:
-    """One line of the trusted-keys file: a public key and whose it is."""
-
-    key: str            # standard base64 of the 32-byte Ed25519 public key
-    name: str
-    role: str
-    line: int = field(default=0, compare=False)
-
-    def to_line(self) -> str:
-        """The line as written in the trusted-keys file."""
-        return trusted_key_line(self.key, self.name, self.role)
 
 
 @dataclass(frozen=True)
@@ -157,61 +130,32 @@ def _field_line(name: str, value: str) -> str:
     return f"{name}: {value}" if value else f"{name}:"
 
 
-def _bad_char(text: str) -> str | None:
-    """A description of the first character of ``text`` that no line may hold, or None."""
-    for column, char in enumerate(text, 1):
-        if char in _DIRECTION_MARKS or unicodedata.category(char) in ("Cc", "Zl", "Zp"):
-            what = _CHAR_NAMES.get(char, "a control or text-direction character")
-            return f"column {column} holds {what} (U+{ord(char):04X}), which is not allowed"
-    return None
-
-
-def _show(text: str, limit: int = 40) -> str:
-    return repr(text if len(text) <= limit else text[:limit] + "...")
-
-
-def _b64(text: str, size: int, what: str) -> tuple[bytes | None, str | None]:
-    """Decode standard base64 of exactly ``size`` bytes; (bytes, None) or (None, message)."""
-    try:
-        raw = base64.b64decode(text, validate=True)
-    except (binascii.Error, ValueError):
-        return None, f"the {what} is not valid base64"
-    if len(raw) != size:
-        return None, f"the {what} must be {size} bytes, this one is {len(raw)}"
-    canonical = base64.b64encode(raw).decode("ascii")
-    if canonical != text:
-        return None, f"the {what} is not in standard base64 form (that would be {canonical})"
-    return raw, None
-
-
 def _value_problem(name: str, value: str) -> str | None:
     """What is wrong with ``value`` for field ``name``, or None."""
-    bad = _bad_char(value)
-    if bad:
-        return f"the value of '{name}': {bad}"
-    if value != value.strip():
-        return f"the value of '{name}' starts or ends with a space"
+    problem = field_text_problem(name, value)
+    if problem:
+        return problem
     if not value:
         return None if name == "conditions" else f"'{name}' is empty"
     if name == "format" and value != SIGNATURE_FORMAT:
         return f"unknown format '{value}'; this version of dossier reads '{SIGNATURE_FORMAT}'"
     if name == "revision" and not _REVISION_RE.fullmatch(value):
-        return f"revision {_show(value)} is not a whole number of 1 or more"
+        return f"revision {show_text(value)} is not a whole number of 1 or more"
     if name == "digest" and not _DIGEST_RE.fullmatch(value):
-        return f"digest {_show(value)} is not 64 lowercase hexadecimal characters (SHA-256)"
+        return f"digest {show_text(value)} is not 64 lowercase hexadecimal characters (SHA-256)"
     if name == "date":
         try:
             if not _DATE_RE.fullmatch(value):
                 raise ValueError
             datetime.date.fromisoformat(value)
         except ValueError:
-            return f"date {_show(value)} is not a calendar date written YYYY-MM-DD"
+            return f"date {show_text(value)} is not a calendar date written YYYY-MM-DD"
     if name == "verdict" and value not in VERDICTS:
-        return f"verdict {_show(value)} is not one of {', '.join(VERDICTS)}"
+        return f"verdict {show_text(value)} is not one of {', '.join(VERDICTS)}"
     if name == "key":
-        return _b64(value, PUBLIC_KEY_BYTES, "public key")[1]
+        return decode_b64(value, PUBLIC_KEY_BYTES, "public key")[1]
     if name == "signature":
-        return _b64(value, SIGNATURE_BYTES, "signature")[1]
+        return decode_b64(value, SIGNATURE_BYTES, "signature")[1]
     return None
 
 
@@ -221,42 +165,6 @@ def _verdict_problem(verdict: str, conditions: str) -> str | None:
     if verdict == "accepted" and conditions:
         return "verdict 'accepted' has conditions; use 'accepted-with-conditions'"
     return None
-
-
-def _check_person(value: object, what: str, *, bar_allowed: bool) -> str:
-    """A signer name or role, checked; raises SignatureError."""
-    if not isinstance(value, str):
-        raise SignatureError(Problem(f"the {what} must be text", key=what))
-    problem = _value_problem(what, value)
-    if problem is None and not value:
-        problem = f"'{what}' is empty"
-    if problem is None and not bar_allowed and "|" in value:
-        problem = f"the {what} must not contain '|' (it separates name and role in {TRUSTED_KEYS_FILE})"
-    if problem:
-        raise SignatureError(Problem(problem, key=what))
-    return value
-
-
-def _decode(data: bytes, filename: str) -> str:
-    try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError as err:
-        line = data[:err.start].count(b"\n") + 1
-        raise SignatureError(Problem(
-            f"the file is not valid UTF-8: byte {err.start} (0x{data[err.start]:02x}) "
-            "cannot be decoded", filename, line)) from None
-
-
-def public_key_text(key: Ed25519PrivateKey | Ed25519PublicKey) -> str:
-    """Standard base64 of the raw 32-byte public key."""
-    public = key.public_key() if isinstance(key, Ed25519PrivateKey) else key
-    raw = public.public_bytes(serialization.Encoding.Raw, serialization.PublicFormat.Raw)
-    return base64.b64encode(raw).decode("ascii")
-
-
-def trusted_key_line(key: str, name: str, role: str) -> str:
-    """A line of the trusted-keys file: ``ed25519 <key> <name> | <role>``."""
-    return f"{KEY_TYPE} {key} {name} | {role}"
 
 
 def verify_signature(public_key: bytes, signature: bytes, message: bytes) -> bool:
@@ -274,145 +182,6 @@ def signatures_path(case_path: str | Path) -> Path:
     return path.with_name(path.stem + SIGNATURES_SUFFIX)
 
 
-def trusted_keys_path(cases_dir: str | Path) -> Path:
-    """``<cases_dir>/trusted-keys.txt``."""
-    return Path(cases_dir) / TRUSTED_KEYS_FILE
-
-
-# --------------------------------------------------------------------------
-# Keys
-# --------------------------------------------------------------------------
-
-
-def generate_keypair(name: str, role: str) -> tuple[bytes, str]:
-    """A new Ed25519 key: (private key as unencrypted PKCS#8 PEM, trusted-keys line)."""
-    _check_person(name, "name", bar_allowed=False)
-    _check_person(role, "role", bar_allowed=True)
-    private = Ed25519PrivateKey.generate()
-    pem = private.private_bytes(serialization.Encoding.PEM, serialization.PrivateFormat.PKCS8,
-                                serialization.NoEncryption())
-    return pem, trusted_key_line(public_key_text(private), name, role)
-
-
-def write_private_key(path: str | Path, pem: bytes) -> None:
-    """Create ``path`` with mode 0600 from the start and write ``pem``; never overwrite."""
-    flags = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_NOFOLLOW", 0)
-    try:
-        fd = os.open(path, flags, 0o600)
-    except FileExistsError:
-        raise SignatureError(Problem("the key file exists already; refusing to overwrite it "
-                                     "(choose another folder or move the old key away first)",
-                                     str(path))) from None
-    except OSError as err:
-        raise SignatureError(Problem(f"cannot create the key file: {err.strerror or err}",
-                                     str(path))) from None
-    try:
-        _write_all(fd, pem)
-        os.fsync(fd)
-    except OSError as err:
-        os.close(fd)
-        os.unlink(path)
-        raise SignatureError(Problem(f"cannot write the key file: {err.strerror or err}",
-                                     str(path))) from None
-    os.close(fd)
-
-
-def load_private_key(path: str | Path) -> Ed25519PrivateKey:
-    """The Ed25519 private key in ``path``; refused when other users may read or change the file."""
-    shown = str(path)
-    try:
-        fd = os.open(path, os.O_RDONLY)
-    except OSError as err:
-        raise SignatureError(Problem(f"cannot read the key file: {err.strerror or err}",
-                                     shown)) from None
-    try:
-        mode = stat.S_IMODE(os.fstat(fd).st_mode)
-        if os.name == "posix" and mode & 0o077:
-            what = "readable by others" if mode & 0o044 else "open to others"
-            raise SignatureError(f"key file {shown} is {what} (mode {mode:04o}); "
-                                 f"run chmod 600 {shown}")
-        data = os.read(fd, _MAX_KEY_FILE_BYTES + 1)
-    finally:
-        os.close(fd)
-    try:
-        key = serialization.load_pem_private_key(data, password=None)
-    except TypeError:
-        raise SignatureError(Problem("the key is protected by a passphrase; dossier reads "
-                                     "unencrypted keys guarded by file permissions", shown)) from None
-    except (ValueError, UnsupportedAlgorithm):
-        raise SignatureError(Problem("the file does not hold a PEM private key "
-                                     "(make one with 'dossier keygen')", shown)) from None
-    if not isinstance(key, Ed25519PrivateKey):
-        raise SignatureError(Problem(f"the file holds a {type(key).__name__} key; dossier signs "
-                                     "with Ed25519 keys (make one with 'dossier keygen')", shown))
-    return key
-
-
-# --------------------------------------------------------------------------
-# The trusted-keys file
-# --------------------------------------------------------------------------
-
-
-def parse_trusted_keys(data: bytes, filename: str) -> tuple[TrustedKey, ...]:
-    """The keys listed in a trusted-keys file's bytes; ``filename`` names it in messages."""
-    text = _decode(data, filename)
-    if text.startswith("\ufeff"):
-        text = text[1:]
-    problems: list[Problem] = []
-    keys: list[TrustedKey] = []
-    first_line: dict[str, int] = {}
-    for number, raw in enumerate(text.split("\n"), 1):
-        line = raw.strip(" ")
-        if not line or line.startswith("#"):
-            continue
-        problem, entry = _trusted_line(line, number)
-        if problem is None and entry.key in first_line:
-            problem = f"this key is listed already on line {first_line[entry.key]}; list each key once"
-        if problem is not None:
-            problems.append(Problem(problem, filename, number))
-            continue
-        first_line[entry.key] = number
-        keys.append(entry)
-    if problems:
-        raise SignatureError(problems)
-    return tuple(keys)
-
-
-def _trusted_line(line: str, number: int) -> tuple[str | None, TrustedKey | None]:
-    bad = _bad_char(line)
-    if bad:
-        return bad, None
-    first = line.split(" ", 1)[0]
-    if first != KEY_TYPE:
-        return (f"a key line starts with '{KEY_TYPE}', not {_show(first)}; "
-                f"write: {KEY_TYPE} <public key> <name> | <role>"), None
-    match = _TRUSTED_RE.fullmatch(line)
-    if not match:
-        return f"expected '{KEY_TYPE} <public key> <name> | <role>'", None
-    _, key, rest = match.groups()
-    problem = _b64(key, PUBLIC_KEY_BYTES, "public key")[1]
-    if problem:
-        return problem, None
-    if "|" not in rest:
-        return "missing '|' between the name and the role (write: <name> | <role>)", None
-    name, role = (part.strip(" ") for part in rest.split("|", 1))
-    if not name:
-        return "the name before '|' is empty", None
-    if not role:
-        return "the role after '|' is empty", None
-    return None, TrustedKey(key, name, role, number)
-
-
-def load_trusted_keys(path: str | Path) -> tuple[TrustedKey, ...]:
-    """The keys listed in the trusted-keys file at ``path``."""
-    try:
-        data = Path(path).read_bytes()
-    except OSError as err:
-        raise SignatureError(Problem(f"cannot read the trusted keys: {err.strerror or err}",
-                                     str(path))) from None
-    return parse_trusted_keys(data, str(path))
-
-
 # --------------------------------------------------------------------------
 # Signature files
 # --------------------------------------------------------------------------
@@ -420,7 +189,7 @@ def load_trusted_keys(path: str | Path) -> tuple[TrustedKey, ...]:
 
 def parse_signatures(data: bytes, filename: str) -> tuple[SignedReview, ...]:
     """The signed reviews in a ``.signatures`` file's bytes; ``filename`` names it in messages."""
-    text = _decode(data, filename)
+    text = decode_utf8(data, filename)
     if not text:
         return ()
     lines = text.split("\n")
@@ -451,10 +220,10 @@ def _parse_block(block: list[tuple[int, str]], filename: str,
     before = len(problems)
     fields: list[tuple[int, str, str]] = []
     for number, raw in block:
-        bad = _bad_char(raw)
+        bad = bad_char(raw)
         match = None if bad else _FIELD_RE.fullmatch(raw)
         if bad or match is None:
-            problems.append(Problem(bad or f"expected 'name: value', got {_show(raw)}",
+            problems.append(Problem(bad or f"expected 'name: value', got {show_text(raw)}",
                                     filename, number))
             continue
         name, value = match.group(1), match.group(2)
@@ -554,13 +323,6 @@ def sign_review(private_key_path: str | Path, case_id: str, revision: int, diges
     return make_review(key, case_id, revision, digest, signer, role, verdict, conditions, date)
 
 
-def _write_all(fd: int, data: bytes) -> None:
-    view = memoryview(data)
-    while view:
-        written = os.write(fd, view)
-        view = view[written:]
-
-
 def _read_all(fd: int) -> bytes:
     size = os.fstat(fd).st_size
     chunks, offset = [], 0
@@ -602,7 +364,7 @@ def append_signature(sig_path: str | Path, review: SignedReview) -> None:
         _lock(fd)
         existing = _read_all(fd)
         parse_signatures(existing, shown)
-        _write_all(fd, (b"\n" if existing else b"") + block)
+        write_all(fd, (b"\n" if existing else b"") + block)
         os.fsync(fd)
     except OSError as err:
         raise SignatureError(Problem(f"cannot append to the signatures file: {err.strerror or err}",
@@ -613,11 +375,8 @@ def append_signature(sig_path: str | Path, review: SignedReview) -> None:
 
 def _lock(fd: int) -> None:
     """Exclusive lock for the read-check-append sequence (released on close)."""
-    try:
-        import fcntl
-    except ImportError:  # pragma: no cover - not POSIX
-        return
-    fcntl.flock(fd, fcntl.LOCK_EX)
+    if fcntl is not None:
+        fcntl.flock(fd, fcntl.LOCK_EX)
 
 
 # --------------------------------------------------------------------------
@@ -640,8 +399,8 @@ def verify_reviews(reviews: Iterable[SignedReview], trusted_keys: Iterable[Trust
 
 def _review_status(review: SignedReview, by_key: dict[str, TrustedKey], current_digest: str,
                    current_revision: int, case_id: str | None) -> ReviewStatus:
-    key, _ = _b64(review.key, PUBLIC_KEY_BYTES, "public key")
-    signature, _ = _b64(review.signature, SIGNATURE_BYTES, "signature")
+    key, _ = decode_b64(review.key, PUBLIC_KEY_BYTES, "public key")
+    signature, _ = decode_b64(review.signature, SIGNATURE_BYTES, "signature")
     if key is None or signature is None or not verify_signature(key, signature,
                                                                 review.signed_bytes()):
         return ReviewStatus(review, "invalid",
@@ -682,3 +441,9 @@ def _review_status(review: SignedReview, by_key: dict[str, TrustedKey], current_
                        "settings) changed since, without a new revision number")
     return ReviewStatus(review, "changed-since-signed", explanation, revision_older=older,
                         trusted_key=trusted)
+
+
+__all__ = ["SIGNATURE_FORMAT", "FIELDS", "SIGNED_FIELDS", "VERDICTS", "SIGNATURES_SUFFIX",
+           "SIGNATURE_BYTES", "Status", "STATUSES", "SignedReview", "ReviewStatus",
+           "verify_signature", "signatures_path", "parse_signatures", "load_signatures",
+           "make_review", "sign_review", "append_signature", "verify_reviews"]

@@ -1,0 +1,108 @@
+"""Energetic screening of the species of a case: oxygen balance, the maximum
+decomposition energy into simple products, explosophore groups and the UN
+Appendix 6 screening, for each species whose composition allows the usual
+energetic groups (or that the case gave a structure).
+
+Pure: resolved species, the library (for the products' ΔfH°) and the method
+settings in; :class:`~dossier.model.assessment.EnergeticScreen` records out,
+with the library records of the products that were used (they are part of
+the integrity record).
+"""
+from __future__ import annotations
+
+from dossier.assess.resolve import ResolvedTerm
+from dossier.engine import energetics
+from dossier.engine.decomposition import Product, max_decomposition_energy
+from dossier.engine.settings import MethodSettings
+from dossier.errors import DossierError
+from dossier.library.lookup import Library
+from dossier.library.record import SpeciesRecord
+from dossier.model.assessment import EnergeticScreen
+
+#: The screening's inputs as the case file names them.  The [decomposition]
+#: data describe the reaction mass, not one species, so a species' own onset
+#: is never known here.
+SCREENING_LABELS = {
+    "energy": "decomposition.energy (exothermic decomposition energy, e.g. DSC)",
+    "onset": "decomposition.onset (onset of exothermic decomposition)",
+}
+_ONSET_UNKNOWN = ("decomposition.onset (onset of exothermic decomposition) missing",
+                  "this species' own decomposition onset is not known")
+
+
+def decomposition_products(library: Library, settings: MethodSettings
+                           ) -> tuple[tuple[Product, ...], tuple[SpeciesRecord, ...]]:
+    """The candidate products of the settings that the library holds, and their records."""
+    products, records = [], []
+    for name, label, phase in settings.decomposition_products:
+        try:
+            rec = library.resolve(label, phase)
+        except DossierError:
+            continue
+        products.append(Product(name, rec.formula, rec.hf298))
+        records.append(rec)
+    return tuple(products), tuple(records)
+
+
+def is_screened(rec: SpeciesRecord) -> bool:
+    """Species whose composition allows the usual energetic groups.
+
+    Nitrogen together with oxygen (nitro, nitrate, nitroso, N-oxide, ammonium
+    nitrate) or halogen together with oxygen (chlorate, perchlorate).  Peroxides
+    cannot be told from a formula: give the species a structure (``smiles``
+    in a case-local record) to have its groups checked.  Species with a
+    structure are always screened.
+    """
+    comp = rec.composition
+    if "O" not in comp:
+        return False
+    return "N" in comp or any(x in comp for x in ("Cl", "Br", "I"))
+
+
+def screen_species(rec: SpeciesRecord, smiles: str | None, products: tuple[Product, ...],
+                   settings: MethodSettings) -> EnergeticScreen:
+    """Screen one species on its own estimated maximum decomposition energy (an upper
+    bound) with its onset unknown."""
+    comp = rec.composition
+    try:
+        ob = energetics.oxygen_balance(comp) + 0.0 if rec.charge == 0 else None  # no "-0.0"
+    except DossierError:
+        ob = None
+    dec = None
+    made: tuple[str, ...] = ()
+    try:
+        res = max_decomposition_energy(comp, rec.hf298, products, settings.un_energy_J_per_g)
+        dec = res.energy_J_per_g
+        made = tuple(f"{n} {x * rec.molar_mass:.3g}" for n, x in res.products)
+    except (DossierError, ValueError):
+        pass
+    try:
+        # A negative maximum means no exothermic decomposition into these products.
+        scr = energetics.un_screening(
+            comp, smiles=smiles,
+            decomposition_energy_J_per_g=max(dec, 0.0) if dec is not None else None,
+            settings=settings, labels=SCREENING_LABELS)
+        outcome, reason = scr.outcome, scr.reason.replace(*_ONSET_UNKNOWN)
+        hits = tuple(h.name for h in scr.groups.hits)
+        note = scr.groups.note
+    except DossierError as err:
+        outcome, reason, hits, note = "undecided", str(err), (), ""
+    return EnergeticScreen(species=rec.name if rec.name else rec.id, oxygen_balance_pct=ob,
+                           max_decomposition_J_per_g=dec, products=made,
+                           screening_outcome=outcome, screening_reason=reason,
+                           explosophores=hits, explosophore_note=note)
+
+
+def screen_terms(terms: tuple[ResolvedTerm, ...], library: Library, settings: MethodSettings
+                 ) -> tuple[tuple[EnergeticScreen, ...], tuple[SpeciesRecord, ...]]:
+    """Screens of the species that need one, and the product records used (none when
+    no species needed screening)."""
+    chosen = [t for t in terms if is_screened(t.record) or t.smiles]
+    if not chosen:
+        return (), ()
+    products, records = decomposition_products(library, settings)
+    return tuple(screen_species(t.record, t.smiles, products, settings) for t in chosen), records
+
+
+__all__ = ["SCREENING_LABELS", "decomposition_products", "is_screened", "screen_species",
+           "screen_terms"]

@@ -1,0 +1,295 @@
+"""The validator: every value of a case header checked against the schema.
+
+:func:`validate_header` walks the parsed TOML with :data:`SCHEMA`, converts
+quantities to SI, and collects every problem, each on its file line (from
+:func:`~dossier.casefile.locate.locate_keys`).  Unknown keys are errors with
+a "did you mean" hint, so a typo never drops a safety input.  One
+:class:`~dossier.errors.CaseError` with all problems, sorted by line, is
+raised at the end.
+"""
+from __future__ import annotations
+
+import datetime
+import difflib
+import re
+from typing import Any, Callable
+
+from dossier.casefile.schema import SCHEMA, SUPPORTED_FORMATS, FieldSpec, TableSpec
+from dossier.casefile.units import DIMENSIONS, parse_mass_or_amount, parse_quantity
+from dossier.chem.formula import parse_formula
+from dossier.chem.phases import PHASE_ALIASES
+from dossier.errors import CaseError, FormulaError, Problem, UnitError
+from dossier.model.case import Verdict, nearest_line
+
+_LABEL_RE = re.compile(r"^\S.*\((?:%s)\)$" % "|".join(PHASE_ALIASES))
+
+_BAD = object()  # a value that failed validation; its problem is recorded
+
+
+def _show(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, str):
+        return repr(value if len(value) <= 60 else value[:60] + "...")
+    if isinstance(value, (int, float)):
+        return repr(value)
+    if isinstance(value, datetime.datetime):
+        return value.isoformat()
+    if isinstance(value, (datetime.date, datetime.time)):
+        return value.isoformat()
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, list):
+        return "a list"
+    return type(value).__name__
+
+
+def _did_you_mean(word: str, options: tuple[str, ...]) -> str:
+    lowered = {o.lower(): o for o in options}
+    if word.lower() in lowered:
+        return f"; did you mean '{lowered[word.lower()]}'?"
+    close = difflib.get_close_matches(word.lower(), list(lowered), n=1, cutoff=0.6)
+    return f"; did you mean '{lowered[close[0]]}'?" if close else ""
+
+
+class _Validator:
+    def __init__(self, filename: str, lines: dict[str, int], default_line: int):
+        self.filename = filename
+        self.lines = lines
+        self.default_line = default_line
+        self.problems: list[Problem] = []
+
+    def line_of(self, key: str) -> int:
+        line = nearest_line(self.lines, key)
+        return self.default_line if line is None else line
+
+    def problem(self, key: str, message: str) -> object:
+        self.problems.append(Problem(message, self.filename, self.line_of(key), key))
+        return _BAD
+
+    # -- tables -------------------------------------------------------------
+    def table(self, raw: dict[str, Any], spec: TableSpec, path: str) -> dict[str, Any]:
+        """Validate one table; return {name: converted value or _BAD or None}."""
+        out: dict[str, Any] = {}
+        for name, value in raw.items():
+            key = f"{path}.{name}" if path else name
+            fspec = spec.field(name)
+            if fspec is None:
+                self.unknown(key, name, spec, path)
+                continue
+            out[name] = self.field(value, fspec, key)
+        for fspec in spec.fields:
+            if fspec.name not in raw:
+                if fspec.required:
+                    key = f"{path}.{fspec.name}" if path else fspec.name
+                    where = f" in {spec.title}" if path else ""
+                    self.problems.append(Problem(
+                        f"required key is missing{where}; add a line like: "
+                        f"{fspec.name} = {fspec.example}",
+                        self.filename, self.line_of(path) if path else self.default_line,
+                        key))
+                    out[fspec.name] = _BAD
+                else:
+                    out[fspec.name] = None
+        return out
+
+    def unknown(self, key: str, name: str, spec: TableSpec, path: str) -> None:
+        hint = ""
+        if path and SCHEMA.field(name) is not None:
+            hint = (f"; '{name}' is a top-level key: move it above the first "
+                    "[table] line, or it belongs to the table above it")
+        hint = hint or _did_you_mean(name, spec.names)
+        if not hint:
+            hint = f"; known keys in {spec.title}: {', '.join(spec.names)}"
+        self.problem(key, f"unknown key{hint}")
+
+    # -- fields -------------------------------------------------------------
+    def field(self, value: Any, spec: FieldSpec, key: str) -> Any:
+        reader: Callable[[Any, FieldSpec, str], Any] = getattr(self, f"read_{spec.kind}")
+        return reader(value, spec, key)
+
+    def read_text(self, value, spec, key):
+        if not isinstance(value, str):
+            return self.problem(key, f"expected text in quotes, like {spec.example}; "
+                                     f"got {_show(value)}")
+        if value.strip() == "":
+            return self.problem(key, f"expected some text, like {spec.example}; "
+                                     "got an empty string")
+        return value
+
+    def read_whole(self, value, spec, key):
+        if isinstance(value, bool) or not isinstance(value, int) or value < 1:
+            quoted = " without quotes" if isinstance(value, str) else ""
+            return self.problem(key, f"expected a positive whole number{quoted}, like "
+                                     f"{spec.example}; got {_show(value)}")
+        return value
+
+    def read_format(self, value, spec, key):
+        if isinstance(value, bool) or not isinstance(value, int):
+            return self.problem(key, f"expected the format version as a whole number, "
+                                     f"like format = 1; got {_show(value)}")
+        if value not in SUPPORTED_FORMATS:
+            return self.problem(key, f"this file is written in case format {value}, "
+                                     "but this version of dossier reads format "
+                                     f"{', '.join(map(str, SUPPORTED_FORMATS))} only")
+        return value
+
+    def read_date(self, value, spec, key):
+        if type(value) is datetime.date:
+            return value
+        if isinstance(value, datetime.datetime):
+            return self.problem(key, f"expected a date without a time of day, like "
+                                     f"{spec.example}; got {_show(value)}")
+        if isinstance(value, str):
+            return self.problem(key, f"expected a date without quotes, like "
+                                     f"{spec.example}; got {_show(value)}")
+        return self.problem(key, f"expected a date, like {spec.example}; "
+                                 f"got {_show(value)}")
+
+    def read_choice(self, value, spec, key):
+        if isinstance(value, str) and value in spec.choices:
+            return value
+        hint = _did_you_mean(value, spec.choices) if isinstance(value, str) else ""
+        return self.problem(key, f"expected one of {', '.join(spec.choices)}; "
+                                 f"got {_show(value)}{hint}")
+
+    def _signed(self, value: float, spec: FieldSpec, key: str, raw: Any) -> Any:
+        noun = DIMENSIONS[spec.dimension].noun if spec.dimension else "a quantity"
+        extra = f" ({spec.help})" if spec.help else ""
+        if spec.sign == "positive" and not value > 0:
+            return self.problem(key, f"expected {noun} above zero{extra}, like "
+                                     f"{spec.example}; got {_show(raw)}")
+        if spec.sign == "non-negative" and not value >= 0:
+            return self.problem(key, f"expected {noun} of zero or more{extra}, like "
+                                     f"{spec.example}; got {_show(raw)}")
+        return value
+
+    def read_quantity(self, value, spec, key):
+        try:
+            si = parse_quantity(value, spec.dimension)
+        except UnitError as err:
+            for p in err.problems:
+                self.problem(key, p.message)
+            return _BAD
+        return self._signed(si, spec, key, value)
+
+    def read_mass_or_amount(self, value, spec, key):
+        try:
+            kind, si = parse_mass_or_amount(value)
+        except UnitError as err:
+            for p in err.problems:
+                self.problem(key, p.message)
+            return _BAD
+        if not si > 0:
+            return self.problem(key, f"expected a mass or an amount above zero, like "
+                                     f"{spec.example}; got {_show(value)}")
+        return kind, si
+
+    def read_temperature_pair(self, value, spec, key):
+        if not isinstance(value, list) or len(value) != 2:
+            got = f"a list of {len(value)}" if isinstance(value, list) else _show(value)
+            return self.problem(key, f"expected two temperatures [low, high], like "
+                                     f"{spec.example}; got {got}")
+        ends = []
+        for index, item in enumerate(value, start=1):
+            try:
+                ends.append(parse_quantity(item, "temperature"))
+            except UnitError as err:
+                for p in err.problems:
+                    self.problem(f"{key}[{index}]", p.message)
+                ends.append(_BAD)
+        if _BAD in ends:
+            return _BAD
+        low, high = ends
+        if not low < high:
+            return self.problem(key, f"expected the low temperature first and below the "
+                                     f"high one, like {spec.example}; got "
+                                     f"{_show(value[0])} to {_show(value[1])}")
+        return (low, high)
+
+    def read_quantity_map(self, value, spec, key):
+        if not isinstance(value, dict):
+            return self.problem(key, f"expected a table, like {key} = {spec.example}; "
+                                     f"got {_show(value)}")
+        out = []
+        bad = False
+        qspec = FieldSpec(spec.name, "quantity", dimension=spec.dimension,
+                          sign=spec.sign, example=spec.example)
+        for label, item in value.items():
+            sub = f"{key}.{label}"
+            if not _LABEL_RE.match(label):
+                self.problem(sub, "expected a species with its phase, like 'N2(g)'")
+                bad = True
+                continue
+            si = self.read_quantity(item, qspec, sub)
+            bad = bad or si is _BAD
+            out.append((label, si))
+        return _BAD if bad else tuple(out)
+
+    def read_table(self, value, spec, key):
+        if isinstance(value, list):
+            return self.problem(key, f"expected one {spec.table.title} table; got "
+                                     f"a list of {len(value)} (write [{key}], not [[{key}]])")
+        if not isinstance(value, dict):
+            return self.problem(key, f"expected a table, like {key} = {spec.example}; "
+                                     f"got {_show(value)}")
+        return self.table(value, spec.table, key)
+
+    def read_tables(self, value, spec, key):
+        if isinstance(value, dict):
+            return self.problem(key, f"expected {spec.table.title} (double brackets, one "
+                                     f"per entry); got a single table [{key}]")
+        if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
+            return self.problem(key, f"expected {spec.table.title} tables; "
+                                     f"got {_show(value)}")
+        return [self.table(v, spec.table, f"{key}[{i}]")
+                for i, v in enumerate(value, start=1)]
+
+
+def _cross_checks(v: _Validator, top: dict[str, Any]) -> None:
+    """Checks that involve more than one key."""
+    species = top.get("species")
+    if isinstance(species, list):
+        seen: dict[str, int] = {}
+        for index, sp in enumerate(species, start=1):
+            formula = sp.get("formula")
+            if isinstance(formula, str) and formula.strip():
+                try:
+                    parse_formula(formula)
+                except FormulaError as err:
+                    for p in err.problems:
+                        v.problem(f"species[{index}].formula", p.message)
+            name = sp.get("name")
+            if isinstance(name, str):
+                if name in seen:
+                    v.problem(f"species[{index}].name",
+                              f"the same name as species[{seen[name]}]; each "
+                              "[[species]] needs its own name")
+                else:
+                    seen[name] = index
+    reviews = top.get("review")
+    if isinstance(reviews, list):
+        for index, rv in enumerate(reviews, start=1):
+            if rv.get("verdict") == Verdict.ACCEPTED_WITH_CONDITIONS.value \
+                    and rv.get("conditions") is None:
+                v.problem(f"review[{index}].verdict",
+                          "a verdict 'accepted-with-conditions' needs the conditions: "
+                          "add a line like: conditions = \"...\"")
+
+
+def validate_header(raw: dict[str, Any], lines: dict[str, int],
+                    filename: str) -> dict[str, Any]:
+    """The header's values converted per :data:`SCHEMA` (absent optional keys are None).
+
+    ``lines`` maps key paths to file lines; ``filename`` names the file in
+    messages.  Raises :class:`CaseError` carrying every problem, sorted by line.
+    """
+    validator = _Validator(filename, lines, default_line=1)
+    top = validator.table(raw, SCHEMA, "")
+    _cross_checks(validator, top)
+    if validator.problems:
+        raise CaseError(sorted(validator.problems, key=lambda p: p.line or 0))
+    return top
+
+
+__all__ = ["validate_header"]

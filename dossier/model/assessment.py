@@ -1,0 +1,265 @@
+"""The assessment of one case as plain data: what the pages, the packets, the
+terminal and ``dossier evaluate --json`` all show.
+
+Frozen dataclasses with units in the field names; :meth:`Assessment.to_dict`
+is the JSON export.  Made by :func:`dossier.assess.evaluate.evaluate`.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass
+from typing import Any
+
+import numpy as np
+
+from dossier.model.findings import Finding
+
+
+@dataclass(frozen=True)
+class Crossover:
+    """A temperature where ΔrG° = 0.
+
+    ``direction`` says how ΔrG° changes sign with rising temperature:
+    ``"favourable above"`` (ΔrG° goes from + to −), ``"favourable below"``
+    (− to +), or ``"touches zero"`` for a tangent root with no sign change.
+    """
+
+    T: float
+    direction: str
+
+
+@dataclass(frozen=True)
+class SpeciesUse:
+    key: str  # as written in the reaction, e.g. "C6H5NO2(l)"
+    nu: float  # signed coefficient
+    record_id: str
+    name: str
+    formula: str
+    phase: str
+    model: str  # nasa7 | shomate | constant-cp
+    t_min_K: float
+    t_max_K: float
+    stable_range_K: tuple[float, float] | None
+    hf298_kJ_mol: float
+    s298_J_molK: float
+    cp298_J_molK: float
+    molar_mass_g_mol: float
+    source: str
+    note: str
+    uncertainty: tuple[tuple[str, float], ...]
+    local: bool  # from the case's own [[species]] table
+    overrides_library: bool  # a case-local record that replaces a library record
+    digest: str
+
+
+@dataclass(frozen=True)
+class ProfileRow:
+    T_K: float
+    dH_kJ_mol: float
+    dS_J_molK: float
+    dG_kJ_mol: float
+    lnK: float
+    dS_surr_J_molK: float
+    dS_univ_J_molK: float
+    q_surr_kJ_mol: float
+    conversion: float
+    extrapolated: bool
+    requested: bool  # asked for with --at
+
+
+@dataclass(frozen=True)
+class Thermodynamics:
+    reaction: str
+    reversible: bool
+    pressure_bar: float
+    window_K: tuple[float, float]
+    data_range_K: tuple[float, float]
+    dH298_kJ_mol: float
+    dS298_J_molK: float
+    dG298_kJ_mol: float
+    crossovers: tuple[Crossover, ...]  # within the window widened to the data range
+    crossover_constant_K: float | None  # ΔH°(298)/ΔS°(298), for comparison
+    profile: tuple[ProfileRow, ...]
+    equilibrium_mode: str
+    equilibrium_note: str
+    basis: str
+    favourable: str  # "everywhere" | "nowhere" | "partly" in the window
+
+    @property
+    def crossovers_in_window(self) -> tuple[Crossover, ...]:
+        lo, hi = self.window_K
+        return tuple(c for c in self.crossovers if lo <= c.T <= hi)
+
+
+@dataclass(frozen=True)
+class ScaleFigures:
+    """Heat and entropy at the scale of the batch (needs [charge])."""
+
+    basis: str
+    basis_mol: float
+    reaction_mol: float  # moles of reaction as written at full conversion
+    enthalpy_used_kJ_mol: float
+    enthalpy_origin: str  # "measured" | "computed"
+    enthalpy_computed_kJ_mol: float
+    enthalpy_measured_kJ_mol: float | None
+    measured_method: str | None
+    heat_released_kJ: float
+    heat_released_kJ_per_kg: float
+    release_rate_kW: float | None
+    T_process_K: float
+    entropy_system_kJ_per_K: float
+    entropy_surroundings_kJ_per_K: float
+    entropy_universe_kJ_per_K: float
+    entropy_reading: str
+    gas_mol: float
+
+
+@dataclass(frozen=True)
+class Safety:
+    scale: ScaleFigures | None
+    adiabatic_rise_K: float | None
+    severity: str | None
+    mtsr_K: float | None
+    mtt_K: float | None
+    td24_K: float | None
+    td24_origin: str | None
+    tmrad_at_mtsr_h: float | None
+    probability: str | None
+    probability_basis: str | None
+    criticality_class: int | None
+    criticality_reason: str
+    decomposition_rise_K: float | None
+    final_temperature_K: float | None
+    release_rate_kW: float | None
+    cooling_capacity_kW: float | None
+    cooling_margin_kW: float | None
+    cooling_sufficient: bool | None
+    gas_volume_normal_m3: float | None
+    pressure_at_mtsr_bar: float | None
+    design_pressure_bar: float | None
+    pressure_exceeds_design: bool | None
+    not_assessed: tuple[tuple[str, tuple[str, ...]], ...]
+    missing_inputs: tuple[str, ...]
+    notes: tuple[str, ...]
+    energetics: tuple["EnergeticScreen", ...] = ()
+
+
+@dataclass(frozen=True)
+class EnergeticScreen:
+    species: str
+    oxygen_balance_pct: float | None
+    max_decomposition_J_per_g: float | None
+    products: tuple[str, ...]
+    screening_outcome: str
+    screening_reason: str
+    explosophores: tuple[str, ...]
+    explosophore_note: str
+
+
+@dataclass(frozen=True)
+class Assessment:
+    case_id: str
+    title: str
+    revision: int
+    status: str
+    owner: str | None
+    gate: str | None
+    meeting: str | None
+    species: tuple[SpeciesUse, ...]
+    thermo: Thermodynamics
+    safety: Safety | None
+    findings: tuple[Finding, ...]
+    warnings: tuple[str, ...]
+    cautions: tuple[str, ...]
+    library_version: str
+    tool_version: str
+
+    def to_dict(self) -> dict:
+        """JSON-ready dict; the keys documented for ``dossier evaluate --json``."""
+        t = self.thermo
+        out: dict[str, Any] = {
+            "case": self.case_id,
+            "title": self.title,
+            "revision": self.revision,
+            "status": self.status,
+            "owner": self.owner,
+            "gate": self.gate,
+            "meeting": self.meeting,
+            "reaction": t.reaction,
+            "reversible": t.reversible,
+            "pressure_bar": t.pressure_bar,
+            "window_K": list(t.window_K),
+            "data_range_K": list(t.data_range_K),
+            "crossover_K": [c.T for c in t.crossovers],
+            "crossovers": [{"T_K": c.T, "direction": c.direction} for c in t.crossovers],
+            "crossover_constant_properties_K": t.crossover_constant_K,
+            "standard_298K": {"dH_kJ_mol": t.dH298_kJ_mol, "dS_J_molK": t.dS298_J_molK,
+                              "dG_kJ_mol": t.dG298_kJ_mol},
+            "favourable_in_window": t.favourable,
+            "equilibrium": {"mode": t.equilibrium_mode, "note": t.equilibrium_note,
+                            "basis": t.basis},
+            "warnings": list(self.warnings),
+            "profile": [asdict(r) for r in t.profile],
+            "species": [_clean(asdict(s)) for s in self.species],
+            "findings": [f.to_dict() for f in self.findings],
+            "cautions": list(self.cautions),
+            "library_version": self.library_version,
+            "tool_version": self.tool_version,
+        }
+        if self.safety is not None:
+            s = self.safety
+            sc = s.scale
+            out["safety"] = {
+                "heat_released_kJ": sc.heat_released_kJ if sc else None,
+                "heat_released_kJ_per_kg": sc.heat_released_kJ_per_kg if sc else None,
+                "enthalpy_used_kJ_mol": sc.enthalpy_used_kJ_mol if sc else None,
+                "enthalpy_origin": sc.enthalpy_origin if sc else None,
+                "release_rate_kW": s.release_rate_kW,
+                "adiabatic_rise_K": s.adiabatic_rise_K,
+                "severity": s.severity,
+                "mtsr_K": s.mtsr_K,
+                "mtt_K": s.mtt_K,
+                "td24_K": s.td24_K,
+                "td24_origin": s.td24_origin,
+                "tmrad_at_mtsr_h": s.tmrad_at_mtsr_h,
+                "probability": s.probability,
+                "criticality_class": s.criticality_class,
+                "criticality_reason": s.criticality_reason,
+                "decomposition_rise_K": s.decomposition_rise_K,
+                "final_temperature_K": s.final_temperature_K,
+                "cooling_capacity_kW": s.cooling_capacity_kW,
+                "cooling_margin_kW": s.cooling_margin_kW,
+                "gas_mol": sc.gas_mol if sc else None,
+                "gas_volume_normal_m3": s.gas_volume_normal_m3,
+                "pressure_at_mtsr_bar": s.pressure_at_mtsr_bar,
+                "design_pressure_bar": s.design_pressure_bar,
+                "entropy_system_kJ_per_K": sc.entropy_system_kJ_per_K if sc else None,
+                "entropy_surroundings_kJ_per_K": sc.entropy_surroundings_kJ_per_K if sc else None,
+                "entropy_universe_kJ_per_K": sc.entropy_universe_kJ_per_K if sc else None,
+                "entropy_reading": sc.entropy_reading if sc else None,
+                "not_assessed": [{"figure": f, "missing": list(m)} for f, m in s.not_assessed],
+                "missing_inputs": list(s.missing_inputs),
+                "notes": list(s.notes),
+                "energetics": [_clean(asdict(e)) for e in s.energetics],
+                "findings": [f.to_dict() for f in self.findings],
+            }
+        return _clean(out)
+
+
+def _clean(value):
+    """Tuples to lists, non-finite floats to None (JSON has no NaN)."""
+    if isinstance(value, dict):
+        return {k: _clean(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_clean(v) for v in value]
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, (np.floating,)):
+        return _clean(float(value))
+    if isinstance(value, Crossover):
+        return {"T_K": value.T, "direction": value.direction}
+    return value
+
+
+__all__ = ["Crossover", "SpeciesUse", "ProfileRow", "Thermodynamics", "ScaleFigures", "Safety",
+           "EnergeticScreen", "Assessment"]

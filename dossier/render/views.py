@@ -1,0 +1,121 @@
+"""What the page renderers get (plain frozen data), and the summaries pages print.
+
+The build makes the views from an assessed case; the templates read them
+and call the summaries below, which put a case's verdicts, crossovers and
+integrity in words.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Sequence
+
+from dossier.constants import ZERO_CELSIUS
+from dossier.render.maths import DerivationView
+from dossier.render.numbers import num, words
+
+if TYPE_CHECKING:  # pragma: no cover
+    from dossier.library.record import SpeciesRecord
+    from dossier.model.assessment import Assessment
+    from dossier.model.case import Charge, Decomposition, Measured, Review, Vessel
+    from dossier.render.figures import Figure
+    from dossier.review.decisions import CaseDecisions
+    from dossier.review.digest import IntegrityRecord
+
+FAVOURABLE_WORDS = {
+    "everywhere": "favourable everywhere in the window (ΔG° < 0)",
+    "partly": "favourable in part of the window (ΔG° changes sign)",
+    "nowhere": "favourable nowhere in the window (ΔG° ≥ 0)",
+}
+
+
+@dataclass(frozen=True)
+class CaseView:
+    """Everything a dossier page needs about one case (plain data)."""
+
+    slug: str
+    source_name: str  # the case file's name, e.g. "full.md"
+    assessment: "Assessment"
+    reviews: tuple["Review", ...]
+    narrative: str
+    inerts: tuple[tuple[str, float], ...]
+    charge: "Charge | None"
+    vessel: "Vessel | None"
+    decomposition: "Decomposition | None"
+    measured: "Measured | None"
+    species_slugs: tuple[str, ...]  # one per assessment.species
+    figures: tuple["Figure", ...]
+    derivation: DerivationView | None
+    derivation_note: str = ""
+    integrity: "IntegrityRecord | None" = None
+    integrity_note: str = "integrity record: not yet computed"
+    decisions: "CaseDecisions | None" = None
+
+    @property
+    def id(self) -> str:
+        return self.assessment.case_id
+
+
+@dataclass(frozen=True)
+class SpeciesView:
+    slug: str
+    record: "SpeciesRecord"
+    local_to: str | None  # case slug when the record is case-local data
+    figure: "Figure"
+    used_by: tuple[tuple[str, str, str], ...]  # (case slug, case id, key as written)
+
+
+@dataclass(frozen=True)
+class FailedCase:
+    file: str
+    problems: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class MeetingView:
+    date: str
+    slug: str  # "meeting-2026-11-24"
+    cases: tuple[CaseView, ...]
+
+
+# --------------------------------------------------------------------------
+# Summaries used by the register and the cover pages
+
+def verdict_summary(reviews: Sequence["Review"]) -> str:
+    if not reviews:
+        return "no verdict yet"
+    return "; ".join(f"{words(str(r.verdict))} ({r.name}, {r.date.isoformat()})"
+                     for r in reviews)
+
+
+def crossover_summary(a: "Assessment") -> str:
+    t = a.thermo
+    if not t.crossovers:
+        return (f"none between {num(t.data_range_K[0], 0)} and "
+                f"{num(max(t.data_range_K[1], t.window_K[1]), 0)} K")
+    parts = []
+    lo, hi = t.window_K
+    for c in t.crossovers:
+        where = "in the window" if lo <= c.T <= hi else "outside the window"
+        parts.append(f"{num(c.T, 1, False)} K ({num(c.T - ZERO_CELSIUS, 1, False)} °C), "
+                     f"{c.direction}, {where}")
+    return "; ".join(parts)
+
+
+def worst_finding(a: "Assessment"):
+    return max(a.findings, key=lambda f: f.rank) if a.findings else None
+
+
+def review_record_status(review: "Review", integrity: "IntegrityRecord | None") -> str:
+    if not review.digest:
+        return "the verdict names no integrity record"
+    if integrity is None:
+        return "the verdict names a record; the current record is not computed"
+    if review.digest.lower().replace(" ", "") == integrity.digest:
+        return "given on the current integrity record"
+    if integrity.digest.startswith(review.digest.lower().replace(" ", "")) and len(review.digest) >= 12:
+        return "given on the current integrity record (short form)"
+    return "given on a different integrity record: the case or its data changed since"
+
+
+__all__ = ["CaseView", "FAVOURABLE_WORDS", "FailedCase", "MeetingView", "SpeciesView",
+           "crossover_summary", "review_record_status", "verdict_summary", "worst_finding"]
