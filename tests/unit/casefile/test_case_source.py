@@ -9,8 +9,9 @@ import pytest
 from dossier.casefile.load import (MAX_FILE_BYTES, CaseSource, header_of, load_case,
                                    parse_source, read_source)
 from dossier.errors import CaseError
+from paths import CASES
 
-CASE = Path(__file__).resolve().parents[3] / "cases" / "nitro-hydrogenation.md"
+CASE = CASES / "nitro-hydrogenation.md"
 
 
 def test_read_source_holds_the_file_bytes_and_the_path_as_given(tmp_path, monkeypatch):

@@ -4,8 +4,6 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from pathlib import Path
-
 import pytest
 
 from dossier.assess.evaluate import evaluate
@@ -14,8 +12,9 @@ from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.library.lookup import Library
 from dossier.model.findings import SEVERITIES
 from dossier.review.digest import integrity_of
+from paths import CASES as DEMO_CASES
 
-CASES = sorted((Path(__file__).parents[3] / "cases").glob("*.md"))
+CASES = sorted(DEMO_CASES.glob("*.md"))
 LIB = Library.default()
 
 

@@ -6,7 +6,6 @@ import io
 import json
 import re
 import shutil
-import sys
 import threading
 from pathlib import Path
 
@@ -20,8 +19,7 @@ from dossier.assess.evaluate import CAUTIONS
 from dossier.build.assessing import assess_file
 from dossier.library.lookup import Library
 
-sys.path.insert(0, str(Path(__file__).parent))
-from fixtures.site import harness  # noqa: E402
+import harness
 
 pypdf = pytest.importorskip("pypdf")
 

@@ -10,16 +10,15 @@ from __future__ import annotations
 
 import shutil
 import socket
-import sys
 from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
 
-sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
-import harness  # noqa: E402
+import harness
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = ROOT
 
 
 class Blocked:

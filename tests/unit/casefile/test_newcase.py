@@ -15,6 +15,7 @@ from dossier.casefile.schema import SCHEMA
 from dossier.errors import CaseError, DossierError
 from dossier.casefile.template import KEY_HELP, MAX_ID_LENGTH, case_template, write_new_case
 from dossier.library.lookup import Library
+from paths import ROOT
 
 COMBUSTION = "CH4(g) + 2 O2(g) -> CO2(g) + 2 H2O(g)"
 
@@ -213,6 +214,6 @@ def test_write_new_case_creates_a_missing_folder(tmp_path):
 
 
 def test_demo_register_ids_would_be_accepted():
-    root = Path(__file__).resolve().parent.parent / "cases"
+    root = ROOT / "cases"
     for path in root.glob("*.md"):
         case_template(path.stem, None)  # raises for an unsafe id

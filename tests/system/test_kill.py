@@ -31,8 +31,9 @@ import time
 from pathlib import Path
 
 import pytest
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = ROOT
 FIXTURE_CASE = ROOT / "tests" / "fixtures" / "site" / "cases" / "ammonia.md"
 BUILD_DEADLINE = 300  # seconds; a build that takes longer fails the test
 SEED = 20261202

@@ -22,8 +22,9 @@ from dossier.casefile.load import load_case
 from dossier.cli.main import main
 from dossier.casefile.template import check_case_id
 from dossier.library.lookup import Library
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = ROOT
 CASES = ROOT / "cases"
 CASE_FILES = sorted(CASES.glob("*.md"))
 IDS = [p.stem for p in CASE_FILES]

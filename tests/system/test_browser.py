@@ -4,13 +4,11 @@ from __future__ import annotations
 
 import shutil
 import subprocess
-import sys
 from pathlib import Path
 
 import pytest
 
-sys.path.insert(0, str(Path(__file__).parent))
-from fixtures.site import harness  # noqa: E402
+import harness
 
 
 def _chromium() -> str | None:

@@ -13,8 +13,9 @@ from hypothesis import strategies as st
 from dossier.errors import UnitError
 from dossier.casefile.units import (DIMENSIONS, MAX_MAGNITUDE, parse_mass_or_amount,
                                 parse_quantity)
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = ROOT
 
 
 def message(text, dimension) -> str:

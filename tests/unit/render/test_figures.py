@@ -12,8 +12,7 @@ from dossier.render import figures
 from dossier.build.assessing import assess_file
 from dossier.library.lookup import Library
 
-sys.path.insert(0, str(Path(__file__).parent))
-from fixtures.site import harness  # noqa: E402
+import harness
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 

@@ -26,10 +26,10 @@ from dossier.engine.settings import DEFAULT
 from dossier.errors import DossierError
 from dossier.library.lookup import Library
 
-sys.path.insert(0, str(Path(__file__).parent))
-from fixtures.site import harness  # noqa: E402
+import harness
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = ROOT
 CASE_IDS = ("ammonia", "calcination", "hydrogenation")
 
 

@@ -12,8 +12,9 @@ from dossier.assess.evaluate import assess_case
 from dossier.casefile.load import load_case, parse_case_text
 from dossier.errors import CaseError
 from dossier.library.lookup import Library
+from paths import FIXTURES
 
-FIXTURES = Path(__file__).parent / "fixtures" / "cases"
+FIXTURES = FIXTURES / "cases"
 LIB = Library.default()
 
 

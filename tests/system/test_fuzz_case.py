@@ -26,8 +26,9 @@ from dossier.casefile.load import MAX_FILE_BYTES, load_case, parse_case_text
 from dossier.model.case import Case
 from dossier.errors import DossierError
 from dossier.library.lookup import Library
+from paths import FIXTURES
 
-FIXTURES = Path(__file__).parent / "fixtures"
+FIXTURES = FIXTURES
 FULL = (FIXTURES / "cases" / "full.md").read_text(encoding="utf-8")
 MINIMAL = (FIXTURES / "cases" / "minimal.md").read_text(encoding="utf-8")
 HOSTILE = FIXTURES / "hostile"

@@ -19,8 +19,9 @@ from hypothesis import given, settings, strategies as st
 
 from dossier.engine.equilibrium import EqSpecies, EquilibriumSystem
 from dossier.engine.roots import EPS, ConvergenceError, brent
+from paths import ROOT
 
-REPO = Path(__file__).resolve().parents[1]
+REPO = ROOT
 FULL_CASE = REPO / "tests" / "fixtures" / "cases" / "full.md"
 
 

@@ -15,8 +15,9 @@ import os
 from pathlib import Path
 
 import pytest
+from paths import TESTS
 
-HERE = Path(__file__).parent
+HERE = TESTS
 MINIMAL = (HERE / "fixtures" / "cases" / "minimal.md").read_text(encoding="utf-8")
 
 LOCAL = """+++

@@ -16,8 +16,9 @@ from dossier.library.lookup import Library
 from dossier.review.digest import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
                                check_recorded_reviews, digest_for_case, short_digest,
                                without_review_tables)
+from paths import FIXTURES
 
-FIXTURES = Path(__file__).parent / "fixtures" / "cases"
+FIXTURES = FIXTURES / "cases"
 
 # SHA-256("abc"): FIPS 180-2, Appendix B.1 (SHA-256 example, one-block message).
 SHA256_ABC = "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"

@@ -3,7 +3,6 @@ from __future__ import annotations
 
 import re
 import shutil
-import sys
 import threading
 import urllib.request
 from pathlib import Path
@@ -11,8 +10,7 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
-import harness  # noqa: E402
+import harness
 
 import dossier.build.pipeline as build  # noqa: E402
 import dossier.build.serve as serve  # noqa: E402

@@ -15,8 +15,9 @@ from dossier.casefile.load import MAX_FILE_BYTES, load_case, parse_case_text
 from dossier.casefile.locate import locate_keys
 from dossier.casefile.schema import SCHEMA
 from dossier.errors import CaseError
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parent.parent
+ROOT = ROOT
 FIXTURES = Path("tests/fixtures/cases")
 
 

@@ -8,13 +8,11 @@ from __future__ import annotations
 import dataclasses
 import os
 import shutil
-import sys
 from pathlib import Path
 
 import pytest
 
-sys.path.insert(0, str(Path(__file__).parent / "fixtures" / "site"))
-import harness  # noqa: E402
+import harness
 
 import dossier.build.pipeline as build  # noqa: E402
 from dossier.build.cache import Cache, key  # noqa: E402

@@ -15,8 +15,9 @@ import pytest
 from dossier.chem.formula import hill_formula, parse_formula
 from dossier.chem.phases import PHASES
 from dossier.library.lookup import Library, default_library
+from paths import ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = ROOT
 DATA = resources.files("dossier").joinpath("data/species.json")
 LIB = Library.default()
 

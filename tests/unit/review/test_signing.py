@@ -22,8 +22,9 @@ from dossier.review.signatures import (SignedReview, append_signature, load_sign
                                        make_review, parse_signatures, sign_review, verify_reviews,
                                        verify_signature)
 from dossier.cli.signing import COMMANDS, key_file_name
+from paths import FIXTURES
 
-FIXTURES = Path(__file__).parent / "fixtures" / "cases"
+FIXTURES = FIXTURES / "cases"
 
 # RFC 8032, section 7.1, TEST 1 (Ed25519, empty message).
 RFC8032_T1_SECRET = "9d61b19deffd5a60ba844af492ec2cc44449c5697b326919703bac031cae7f60"
