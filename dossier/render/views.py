@@ -18,7 +18,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from dossier.model.assessment import Assessment
     from dossier.model.case import Charge, Decomposition, Measured, Review, Vessel
     from dossier.render.figures import Figure
-    from dossier.review.decisions import CaseDecisions
+    from dossier.model.decisions import CaseDecisions
     from dossier.review.digest import IntegrityRecord
 
 FAVOURABLE_WORDS = {

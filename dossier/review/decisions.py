@@ -10,7 +10,6 @@ plain data for the pages.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
 
 from dossier.assess.evaluate import assess_case
 from dossier.casefile.load import header_of, parse_source
@@ -18,56 +17,13 @@ from dossier.errors import DossierError
 from dossier.library.lookup import Library
 from dossier.model.assessment import Assessment
 from dossier.model.case import Case
-from dossier.model.integrity import IntegrityRecord, RecordedReview
+from dossier.model.decisions import CaseDecisions, RevisionHistory, SignatureLine
+from dossier.model.integrity import IntegrityRecord
 from dossier.review.digest import check_recorded_reviews
 from dossier.review.inputs import CaseInputs
-from dossier.review.revisions import RevisionHistory, history
+from dossier.review.revisions import history
 from dossier.review.keys import parse_trusted_keys
 from dossier.review.signatures import parse_signatures, verify_reviews
-
-#: How each signature status reads on a page (our own words).
-SIGNATURE_WORDS = {
-    "valid": "valid: signed by a trusted key on the current data",
-    "changed-since-signed": "signed on other data: the case or its data changed since",
-    "untrusted-key": "untrusted: the key is not in the board's list",
-    "invalid": "invalid: the signature does not match (altered)",
-}
-
-
-@dataclass(frozen=True)
-class SignatureLine:
-    signer: str
-    role: str
-    date: str
-    verdict: str
-    conditions: str
-    revision: int
-    status: str  # valid | changed-since-signed | untrusted-key | invalid
-    explanation: str
-
-    @property
-    def words(self) -> str:
-        return SIGNATURE_WORDS.get(self.status, self.status)
-
-
-@dataclass(frozen=True)
-class CaseDecisions:
-    signatures: tuple[SignatureLine, ...]
-    signature_problems: tuple[str, ...]  # a signature file that could not be read
-    recorded: tuple[RecordedReview, ...]
-    history: RevisionHistory | None
-
-    @property
-    def changed_since_decided(self) -> bool:
-        """True when a verdict (signed or recorded) was given on other data."""
-        return (any(s.status == "changed-since-signed" for s in self.signatures)
-                or any(r.status == "changed since reviewed" for r in self.recorded))
-
-    @property
-    def signature_trouble(self) -> bool:
-        return bool(self.signature_problems) or any(
-            s.status in ("untrusted-key", "invalid") for s in self.signatures)
-
 
 def _signatures(inputs: CaseInputs, case: Case, digest: str | None
                 ) -> tuple[tuple[SignatureLine, ...], tuple[str, ...]]:
@@ -129,4 +85,4 @@ def collect_decisions(inputs: CaseInputs, case: Case, assessment: Assessment,
                          recorded=recorded, history=_history(inputs, case, assessment, library))
 
 
-__all__ = ["SIGNATURE_WORDS", "SignatureLine", "CaseDecisions", "collect_decisions"]
+__all__ = ["collect_decisions"]

@@ -15,11 +15,11 @@ or went away.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
 from dossier.model.assessment import Assessment
+from dossier.model.decisions import Change, RevisionHistory, RevisionStep
 
 _REV_FILE = re.compile(r"^rev-(\d{1,4})\.md$")
 
@@ -40,37 +40,6 @@ def archived_revisions(case_path: Path) -> list[tuple[int, Path]]:
         if m and p.is_file() and not p.is_symlink():
             found.append((int(m.group(1)), p))
     return sorted(found)
-
-
-@dataclass(frozen=True)
-class Change:
-    """One input or figure, before and after (as display text)."""
-
-    what: str
-    before: str
-    after: str
-
-
-@dataclass(frozen=True)
-class RevisionStep:
-    from_revision: int
-    to_revision: int
-    inputs: tuple[Change, ...]
-    figures: tuple[Change, ...]
-    findings_added: tuple[str, ...]
-    findings_removed: tuple[str, ...]
-
-    @property
-    def unchanged(self) -> bool:
-        return not (self.inputs or self.figures or self.findings_added or self.findings_removed)
-
-
-@dataclass(frozen=True)
-class RevisionHistory:
-    case_id: str
-    revisions: tuple[int, ...]  # every revision shown, oldest first, the current one last
-    steps: tuple[RevisionStep, ...]
-    problems: tuple[str, ...] = ()  # kept revisions that could not be read or assessed
 
 
 def flatten(header: Mapping[str, Any], prefix: str = "") -> dict[str, str]:
