@@ -156,9 +156,9 @@ def resolve_species(case: Case, reaction: Reaction, library: Library) -> Resolut
 
 
 def unused_table_warning(case: Case, index: int, sp: LocalSpecies) -> str:
-    """The warning for a [[species]] table that nothing in the case uses."""
-    line = case.line_of(f"species[{index}]")
-    where = f" (line {line})" if line else ""
+    """The warning for a [[species]] table (``index`` from 0) that nothing in the case uses."""
+    line = case.line_of(f"species[{index + 1}]")  # key paths number tables from 1
+    where = f" at line {line}" if line else ""
     phase = normalise_phase(str(sp.phase))
     return (f"the case's [[species]] table '{sp.name}'{where} ({sp.formula}, phase {phase}) "
             "is not used: no term of the reaction and no inert names it, so its data play no "

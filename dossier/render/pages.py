@@ -24,15 +24,17 @@ Page map (paths relative to the site root)::
 from __future__ import annotations
 
 import base64
+import dataclasses
 import functools
 import hashlib
+import math
 from importlib.resources import files
 from typing import Iterable, Sequence
 
 from dossier.assess import rules
 from dossier.assess.evaluate import CAUTIONS
 from dossier.chem.phases import PHASE_NAMES
-from dossier.constants import ZERO_CELSIUS
+from dossier.constants import P_STANDARD, R, T_REF, ZERO_CELSIUS
 from dossier.engine import energetics, safety
 from dossier.engine.decomposition import WATER_CHOICE
 from dossier.engine.settings import DEFAULT, MethodSettings
@@ -161,21 +163,74 @@ def scale_rows(settings: MethodSettings = DEFAULT) -> tuple[tuple[str, str, str,
     )
 
 
-def setting_text(value: object) -> str:
-    """A method setting as a reviewer reads it: lists joined, unbounded limits as ∞."""
-    if value is None:
-        return "∞"
-    if isinstance(value, list):
-        if all(isinstance(v, list) for v in value):
-            return "; ".join(" ".join(setting_text(x) for x in v) for v in value)
-        return ", ".join(setting_text(v) for v in value)
+#: How the methods page names each method setting (unit in brackets); a setting
+#: missing here is still listed, under its field name.
+SETTING_LABELS: dict[str, str] = {
+    "grid_steps_K": "profile grid: step widths tried (K)",
+    "grid_min_step_K": "profile grid: smallest step (K)",
+    "grid_max_rows": "profile grid: most rows",
+    "crossover_scan_K": "crossover search: limits around the window (K)",
+    "favourable_points": "points on which “favourable in the window” is judged",
+    "equilibrium_model": "equilibrium model",
+    "equilibrium_limited_below": "equilibrium-limited below this conversion",
+    "enthalpy_mismatch_fraction": "measured and computed ΔrH differ: more than this fraction",
+    "enthalpy_mismatch_kJ_mol": "… or more than (kJ/mol)",
+    "energetic_species_J_per_g": "energetic species from a maximum decomposition energy of (J/g)",
+    "severity_bands_K": "severity on ΔTad (K)",
+    "probability_bands_h": "probability on TMRad at the MTSR (h)",
+    "td24_time_s": "TMRad that defines TD24 (s)",
+    "td24_agreement_K": "given TD24 and TD24 from kinetics agree within (K)",
+    "gas_normal_T_K": "normal conditions for gas volumes: temperature (K)",
+    "gas_normal_p_Pa": "normal conditions for gas volumes: pressure (Pa)",
+    "severity_findings": "finding severity per severity level",
+    "probability_findings": "finding severity per probability level",
+    "criticality_findings": "finding severity per criticality class",
+    "un_energy_J_per_g": "UN Appendix 6: decomposition energy limit (J/g)",
+    "un_onset_K": "UN Appendix 6: onset limit (K)",
+    "un_oxygen_balance_pct": "UN Appendix 6: oxygen balance limit (%)",
+    "decomposition_products": "decomposition products (name, library label, phase)",
+}
+
+
+def _band(level: str, lo: float, hi: float) -> str:
+    if lo == -math.inf:
+        return f"{level} below {hi:g}"
+    if hi == math.inf:
+        return f"{level} above {lo:g}"
+    return f"{level} {lo:g}–{hi:g}"
+
+
+def _setting_value(value: object) -> str:
+    if (isinstance(value, tuple) and value and all(
+            isinstance(v, tuple) and len(v) == 3 and isinstance(v[1], float) for v in value)):
+        return "; ".join(_band(*v) for v in value)
+    if isinstance(value, float):
+        return "−∞" if value == -math.inf else "∞" if value == math.inf else f"{value:g}"
+    if isinstance(value, tuple):
+        if value and all(isinstance(v, tuple) and len(v) == 2 for v in value):
+            return "; ".join(f"{_setting_value(a)} → {_setting_value(b)}" for a, b in value)
+        if value and all(isinstance(v, tuple) for v in value):
+            return "; ".join(" ".join(_setting_value(x) for x in v) for v in value)
+        return ", ".join(_setting_value(v) for v in value)
     return str(value)
+
+
+def setting_rows(settings: MethodSettings = DEFAULT) -> tuple[tuple[str, str], ...]:
+    """(label, value) of the constants and every method setting, as a reviewer reads
+    them; the same values as :meth:`MethodSettings.record` digests."""
+    rows = [("standard pressure p° (Pa)", f"{P_STANDARD:g}"),
+            ("reference temperature T° (K)", f"{T_REF:g}"),
+            ("gas constant R (J/(mol·K))", repr(R))]
+    for f in dataclasses.fields(settings):
+        label = SETTING_LABELS.get(f.name, f.name.replace("_", " "))
+        rows.append((label, _setting_value(getattr(settings, f.name))))
+    return tuple(rows)
 
 
 def render_methods_page(settings: MethodSettings = DEFAULT) -> str:
     return render_template("methods.html", root="", csp=content_policy(), page_title="Methods",
-                           sources=method_sources(settings), settings=settings.record(),
-                           setting_text=setting_text, scales=scale_rows(settings),
+                           sources=method_sources(settings), settings=setting_rows(settings),
+                           scales=scale_rows(settings),
                            ms=settings, cautions=CAUTIONS)
 
 

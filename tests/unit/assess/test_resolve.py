@@ -63,8 +63,9 @@ def test_an_unused_case_table_is_named_in_a_warning():
     case, ev = _evaluate(phase="g")
     a = ev.assessment
     assert a.thermo.dH298_kJ_mol == pytest.approx(-285.83, abs=0.05)  # library H2O(l)
-    line = case.line_of("species[0]")
-    assert (f"the case's [[species]] table 'water' (line {line}) (H2O, phase g) is not used: "
+    text = WATER_CASE.format(phase="g", extra="")
+    line = text.splitlines().index("[[species]]") + 1  # the table's own line
+    assert (f"the case's [[species]] table 'water' at line {line} (H2O, phase g) is not used: "
             "no term of the reaction and no inert names it, so its data play no part in this "
             "dossier; write it in the reaction as 'water(g)' or as its formula with that "
             "phase, or remove the table") in a.warnings
@@ -106,3 +107,22 @@ def test_the_digest_covers_the_case_table_that_the_assessment_used():
                          ev.assessment.library_version, ev.assessment.tool_version,
                          ev.settings.record())
     assert {sid for sid, _ in record.species_digests} == ids
+
+
+def test_the_unused_table_named_is_the_one_at_its_own_line():
+    text = WATER_CASE.format(phase="l", extra="").replace("+++\nNarrative.", """
+[[species]]
+name = "steam"
+formula = "H2O"
+phase = "g"
+hf = "-240 kJ/mol"
+s = "189 J/(mol*K)"
+cp = "34 J/(mol*K)"
+source = "invented for a test"
++++
+Narrative.""")
+    case = parse_case_text(text, "two.md")
+    a = evaluate(case, LIB).assessment
+    second = [i + 1 for i, l in enumerate(text.splitlines()) if l == "[[species]]"][1]
+    (warning,) = [w for w in a.warnings if "is not used" in w]
+    assert warning.startswith(f"the case's [[species]] table 'steam' at line {second} (H2O, phase g)")

@@ -190,9 +190,15 @@ def test_methods_page_names_methods_and_sources(built):
     for src in (safety.severity_source(), safety.probability_source(), safety.CRITICALITY_SOURCE,
                 safety.TMR_SOURCE, energetics.UN_SCREENING_SOURCE):
         assert src in text
-    # every method setting is listed, as the integrity record digests it
-    for name in DEFAULT.record():
-        assert name.replace("_", " ") in text
+    # every method setting is listed (the constants first), as the integrity record
+    # digests it: one row each, with the value in use
+    rows = site.setting_rows(DEFAULT)
+    assert len(rows) == len(DEFAULT.record())
+    for label, value in rows:
+        assert f"{label}{value}" in text
+    assert ("severity on ΔTad (K)", "low below 50; medium 50–200; high above 200") in rows
+    assert ("probability on TMRad at the MTSR (h)", "high 0–8; medium 8–24; low above 24") in rows
+    assert ("gas constant R (J/(mol·K))", "8.314462618") in rows
     for words in ("Kirchhoff", "Townsend and Tou, 1980", "TD24", "oxygen balance",
                   "Appendix 6", "Maximum decomposition energy", "p° = 1 bar", "Limits of the methods",
                   "Cautions"):
