@@ -15,7 +15,11 @@ from pathlib import Path
 
 import click
 
-from dossier.casefile.load import load_case
+from dossier.assess.evaluate import evaluate
+from dossier.casefile.load import CaseSource, parse_source, read_source
+from dossier.library.lookup import Library
+from dossier.model.case import Case
+from dossier.model.integrity import IntegrityRecord
 from dossier.errors import (EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, DossierError, Problem,
                             SignatureError)
 from dossier.review import digest as integrity
@@ -126,6 +130,28 @@ def sign(case_file: Path, key_file: Path, verdict: str, conditions: str, signer:
                    "this signature as untrusted-key until it is added.", err=True)
 
 
+class _CasesSeen:
+    """Each case file of a ``verify`` run read once, parsed once and digested at most once."""
+
+    def __init__(self) -> None:
+        self._sources: dict[Path, tuple[CaseSource, Case]] = {}
+        self._records: dict[Path, IntegrityRecord] = {}
+
+    def case(self, case_file: Path) -> Case:
+        if case_file not in self._sources:
+            source = read_source(case_file)
+            self._sources[case_file] = (source, parse_source(source))
+        return self._sources[case_file][1]
+
+    def record(self, case_file: Path) -> IntegrityRecord:
+        if case_file not in self._records:
+            case = self.case(case_file)
+            source = self._sources[case_file][0]
+            self._records[case_file] = integrity.integrity_of(
+                source, evaluate(case, Library.default()))
+        return self._records[case_file]
+
+
 def _trusted_entry(cases_dir: Path, key: str) -> TrustedKey | None:
     path = trusted_keys_path(cases_dir)
     if not path.exists():
@@ -153,12 +179,7 @@ def verify(cases_dir: Path) -> None:
     results: list[tuple[str, ReviewStatus]] = []
     recorded: list[tuple[str, integrity.RecordedReview]] = []
     bad_input = False
-    digests: dict[Path, tuple] = {}  # each case's digest is computed once
-
-    def digest_of(case_file: Path) -> tuple:
-        if case_file not in digests:
-            digests[case_file] = integrity.digest_for_case(case_file)
-        return digests[case_file]
+    cases = _CasesSeen()
 
     def report(err: DossierError) -> None:
         nonlocal bad_input
@@ -174,7 +195,7 @@ def verify(cases_dir: Path) -> None:
             if not case_file.exists():
                 raise SignatureError(Problem(f"there is no case file {case_file} for these "
                                              "signatures", str(sig_file)))
-            record, revision, _ = digest_of(case_file)
+            record, revision = cases.record(case_file), cases.case(case_file).revision
         except DossierError as err:
             report(err)
             continue
@@ -185,10 +206,10 @@ def verify(cases_dir: Path) -> None:
     # they accepted; a case changed since then is reported the same way.
     for case_file in sorted(cases_dir.glob("*.md")):
         try:
-            case = load_case(case_file)
+            case = cases.case(case_file)
             if not case.reviews:
                 continue
-            record, _revision, _ = digest_of(case_file)
+            record = cases.record(case_file)
         except DossierError as err:
             report(err)
             continue

@@ -30,6 +30,7 @@ class SpeciesRecord:
     stable_range: tuple[float, float] | None = None
     cas: str | None = None
     molar_mass: float = 0.0
+    smiles: str | None = None  # structure, where the source or the case gives one
 
     def __post_init__(self):
         if self.phase not in PHASES:
@@ -78,6 +79,7 @@ class SpeciesRecord:
             "stable_range": list(self.stable_range) if self.stable_range else None,
             "cas": self.cas,
             "molar_mass": self.molar_mass,
+            **({"smiles": self.smiles} if self.smiles else {}),
         }
 
     @classmethod
@@ -99,6 +101,7 @@ class SpeciesRecord:
                 stable_range=tuple(sr) if sr else None,
                 cas=d.get("cas"),
                 molar_mass=float(d.get("molar_mass", 0.0)),
+                smiles=d.get("smiles") or None,
             )
         except (KeyError, TypeError, ValueError) as exc:
             raise LibraryError(f"species record {d.get('id', '?')!r} is incomplete: {exc}") from None
