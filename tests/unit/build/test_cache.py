@@ -14,13 +14,13 @@ import pytest
 
 import harness
 
-import dossier.build.pipeline as build  # noqa: E402
-from dossier.build.cache import Cache, key  # noqa: E402
-from dossier.build.keys import build_settings, case_key  # noqa: E402
-from dossier.casefile.load import MAX_FILE_BYTES  # noqa: E402
-from dossier.review.inputs import read_case_inputs  # noqa: E402
-from dossier.errors import DossierError  # noqa: E402
-from dossier.build.writer import MANIFEST  # noqa: E402
+import dossier.build.pipeline as build
+from dossier.build.cache import Cache, key
+from dossier.build.keys import build_settings, case_key
+from dossier.casefile.load import MAX_FILE_BYTES
+from dossier.review.inputs import read_case_inputs
+from dossier.errors import DossierError
+from dossier.build.writer import MANIFEST
 
 GOOD = ("ammonia.md", "calcination.md", "hydrogenation.md")
 
