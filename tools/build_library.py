@@ -27,13 +27,31 @@ Sources, in order of preference for one substance in one phase:
    constant-Cp model.  Where the CRC row lacks ΔfH° or S° for a phase, the
    NIST WebBook constants carried by chemicals (Misc/webbook_constants.tsv)
    are used if they have both.
-4. CRC Handbook "Thermodynamic Properties of Aqueous Ions" for (aq).
+4. CRC Handbook "Thermodynamic Properties of Aqueous Ions" for (aq); where
+   that table has no Cp, Cp° at 298.15 K from the revised-HKF papers listed
+   in tools/aqueous_heat_capacities.py (Shock and Helgeson 1988, Shock et
+   al. 1997, ...), each named in the record's source.
+5. White tin, the reference state of tin, which the CRC table in chemicals
+   lacks (it carries grey tin only); see ``_reference_forms``.  Grey tin is
+   kept under its own name ("tin (gray)"), never as "Sn(s)".
 
 Rows without both ΔfH° and S° are skipped.  Where a constant-Cp row has no
-Cp, Cp = 0 is used and the record's note says so.
+Cp (and no HKF value applies), Cp = 0 is used, the record lists "cp" in its
+``missing`` properties, and its note and uncertainty give a bound on Cp
+(``_note_missing_cp``).
 
-Validity ranges of constant-Cp models (our choice, documented here):
-* liquids: melting point to normal boiling point (chemicals.phase_change)
+Phase boundaries (tools/library_phase_data.py): every record with a CAS
+number gets the normal melting and boiling points and, for gases and
+liquids, a published vapour-pressure curve, each with its source; aqueous
+species get those of their solvent, water.  The model's temperature range is
+only the *data range*; which phase is stable comes from these boundaries.
+
+Structures: carbon compounds get their SMILES from chemicals' identifier
+database (by CAS number) where RDKit reads it to the record's formula.
+
+Data ranges of constant-Cp models (our choice, documented here; they say where the
+model is used, not where the phase is stable):
+* liquids: melting point to normal boiling point (tools/library_phase_data.py)
   when both are known, else 298.15 ± 50 K;
 * solids: 248.15 K to the melting point when known (>298.15 K), else
   298.15 ± 50 K;
@@ -58,13 +76,17 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+sys.path.insert(0, str(ROOT / "tools"))
+
+import aqueous_heat_capacities as aq_cp  # noqa: E402
+import library_phase_data as phase_tool  # noqa: E402
 from dossier.chem.formula import hill_formula, parse_formula  # noqa: E402
-from dossier.constants import T_REF  # noqa: E402
+from dossier.constants import R, T_REF  # noqa: E402
 from dossier.library.models import ConstantCp, Nasa7, Shomate  # noqa: E402
 from dossier.library.record import SpeciesRecord  # noqa: E402
 
-FORMAT = 1
-LIBRARY_VERSION = "2026.12.1"
+FORMAT = 2
+LIBRARY_VERSION = "2026.12.2"
 GENERATED = "2026-12-01"  # fixed on purpose: the output must not depend on the clock
 OUT = ROOT / "dossier" / "data" / "species.json"
 
@@ -115,6 +137,21 @@ SOURCES = {
         "Thermodynamic Properties of Aqueous Ions.tsv); constant-Cp model"
     ),
 }
+for _ref, _citation in aq_cp.CITATIONS.items():
+    SOURCES[f"crc-aq+{_ref}"] = (
+        'ΔfH° and S°: CRC Handbook of Chemistry and Physics, "Thermodynamic Properties of '
+        'Aqueous Ions" (standard state: ideal solution at 1 mol/kg, 298.15 K, 1 bar), as '
+        f"carried by the chemicals package; Cp° at 298.15 K: {_citation} (revised HKF "
+        "model; value transcribed from the OBIGT database of the CHNOSZ package); "
+        "constant-Cp model")
+SOURCES["reference-tin"] = (
+    "White tin, the reference state of tin: ΔfH° = 0 by definition; S° at 298.15 K: NIST "
+    "Chemistry WebBook constants as carried by the chemicals package "
+    "(Misc/webbook_constants.tsv); Cp(T): Perry's Chemical Engineers' Handbook, 8th ed. "
+    "(2007), Table 2-151 (Sn, crystalline, 273-504 K, ±2 %), as carried by the chemicals "
+    "package (Heat Capacity/Perrys Table 2-151.tsv); Shomate form")
+SOURCES.update(phase_tool.SOURCES)
+
 ATCT_CITATION = (
     "Active Thermochemical Tables (ATcT) version 1.112, as carried by the "
     "chemicals package (Reactions/ATcT 1.112 (g).tsv, (l).tsv)"
@@ -193,6 +230,10 @@ NASA_CAS = {
     "ALCL3": "7446-70-0", "TiO2": "13463-67-7", "C8H18,n-octa": "111-65-9",
 }
 
+# NASA gas names whose CAS differs from the condensed label's in NASA_CAS: the
+# carbon atom is not graphite.
+NASA_GAS_CAS = {"C": "7440-44-0"}
+
 # Common names (lower case) and extra aliases for CAS numbers: the common
 # process species.  Anything not listed takes its name from the source table
 # or from chemicals.identifiers.
@@ -261,6 +302,7 @@ COMMON = {
     "7440-59-7": ("helium", []), "7440-37-1": ("argon", []),
     "7440-01-9": ("neon", []), "7439-90-9": ("krypton", []), "7440-63-3": ("xenon", []),
     "7439-97-6": ("mercury", []), "7782-42-5": ("graphite", ["carbon"]),
+    "7440-44-0": ("carbon", ["atomic carbon"]),
     "7704-34-9": ("sulfur", []), "7723-14-0": ("phosphorus", []),
     "7439-89-6": ("iron", []), "7429-90-5": ("aluminium", ["aluminum"]),
     "7440-50-8": ("copper", []), "7440-23-5": ("sodium", []),
@@ -331,6 +373,21 @@ NASA_NAMES = {
     "CH3CN": "acetonitrile", "C2N2": "cyanogen", "CLCN": "cyanogen chloride",
 }
 
+# Solid forms (allotropes) that the tables name with a qualifier: name -> form label.
+# Only tin has two forms in the sources; its reference form (white) is added by
+# _reference_forms.  Other qualified element names ("arsenic (gray)", "selenium
+# (gray)") are the reference forms themselves.
+FORM_NAMES = {"tin (gray)": "grey"}
+FORM_ALIASES = {"grey": ["grey tin", "gray tin", "alpha-tin"]}
+_FORM_QUALIFIER_RE = re.compile(r"\s*\((gray|grey|white|rhombic|monoclinic|graphite|diamond|"
+                                r"red|black|yellow)\)$", re.IGNORECASE)
+
+
+def _strip_form(name: str) -> str:
+    """'tin (gray)' -> 'tin': a solid form's qualifier does not belong to the gas or liquid."""
+    return _FORM_QUALIFIER_RE.sub("", name)
+
+
 # Aqueous ions: readable common aliases beyond the CRC names.
 AQ_ALIASES = {"H+": ["proton", "hydrogen ion"], "OH-": ["hydroxide", "hydroxide ion"]}
 
@@ -366,8 +423,12 @@ class Candidate:
     aliases: list = field(default_factory=list)
     cas: str | None = None
     note: str = ""
-    stable_range: tuple | None = None
     uncertainty: list = field(default_factory=list)
+    form: str | None = None  # one solid form (allotrope) of several: its label
+    reference: bool = False  # the reference state of an element: its id is the formula
+    phase_data: object = None  # PhaseData with source keys
+    missing: list = field(default_factory=list)
+    smiles: str | None = None
 
     @property
     def hill(self) -> str:
@@ -379,13 +440,12 @@ class Candidate:
 
 
 class Identifiers:
-    """Look-ups in chemicals (identifiers and phase-change tables), cached."""
+    """Look-ups in chemicals (identifiers, and melting and boiling points), cached."""
 
     def __init__(self):
-        from chemicals import identifiers, phase_change
+        from chemicals import identifiers
 
         self._ids = identifiers
-        self._pc = phase_change
         self._cache: dict = {}
 
     def by_cas(self, cas: str):
@@ -407,16 +467,14 @@ class Identifiers:
         return self._cache[key]
 
     def tm_tb(self, cas: str | None) -> tuple[float | None, float | None]:
+        """Melting and normal boiling points (chemicals' tables, never its estimates)."""
         if not cas:
             return None, None
-        out = []
-        for fn in (self._pc.Tm, self._pc.Tb):
-            try:
-                v = fn(cas)
-            except Exception:
-                v = None
-            out.append(float(v) if v is not None and math.isfinite(float(v)) else None)
-        return out[0], out[1]
+        key = ("tm_tb", cas)
+        if key not in self._cache:
+            tm, tb = phase_tool.normal_points(cas)
+            self._cache[key] = (tm[0] if tm else None, tb[0] if tb else None)
+        return self._cache[key]
 
 
 def _composition_of(formula_text: str) -> tuple[dict, int] | None:
@@ -488,9 +546,11 @@ def _identity_fits(name: str, smiles: str | None, elements: dict) -> bool:
     """
     low = name.strip().lower()
     for el_name, symbol in _ELEMENT_NAMES.items():
-        for mult in _MULTIPLIERS:
+        for count, mult in enumerate(_MULTIPLIERS, start=1):
             if low == mult + el_name and set(elements) != {symbol}:
                 return False
+            if mult and low == mult + el_name and elements != {symbol: float(count)}:
+                return False  # "tetraphosphorus" must be P4, not P
     if smiles and "." in smiles:
         if any(part in _BARE_COMPONENTS for part in smiles.split(".")):
             return False
@@ -553,7 +613,7 @@ def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
         label = "e-" if raw == "Electron" else _clean_label(label)
         if raw == "Jet-A(g)":
             label = "Jet-A"
-        cas = NASA_CAS.get(raw)
+        cas = NASA_GAS_CAS.get(raw, NASA_CAS.get(raw))
         by_hand = cas is not None
         name = None
         hill = hill_formula(elements, charge)
@@ -579,15 +639,9 @@ def _nasa_gas(ids: Identifiers, skipped: Counter) -> list[Candidate]:
         aliases = [raw, label, *extra]
         if qual:
             aliases.append(f"{label},{qual}")
-        stable = None
-        if by_hand or (cas and charge == 0 and hills[hill] == 1 and len(elements) > 1):
-            tm, tb = ids.tm_tb(cas)
-            if tb is not None and tb < model.t_max:
-                stable = (max(tb, model.t_min), model.t_max)
         out.append(Candidate("nasa-gas", 0, "g", elements, charge, model,
                              label if not qual else "", name, aliases, cas,
-                             f"NASA name {raw}; reference code {str(th.get('note', '')).strip()}",
-                             stable))
+                             f"NASA name {raw}; reference code {str(th.get('note', '')).strip()}"))
     return out
 
 
@@ -623,7 +677,6 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
             hit = ids.by_cas(cas) if cas else None
             if hit is not None and hit.common_name:
                 extra = [hit.common_name]
-        tm, tb = ids.tm_tb(cas)
         solids = [(t, sp) for t, sp in entries if t != "L"]
         liquids = [(t, sp) for t, sp in entries if t == "L"]
         for phase, items in (("s", solids), ("l", liquids)):
@@ -654,14 +707,10 @@ def _nasa_condensed(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 note = (f"NASA names {names}: solid forms joined in order of temperature; "
                         f"the enthalpy steps at the joins are the transition enthalpies; "
                         f"reference codes {codes}")
-            lo, hi = model.t_min, model.t_max
-            if phase == "l" and tb is not None and lo < tb < hi:
-                hi = tb
             raw_names = [sp["name"] for _, sp in items]
             out.append(Candidate("nasa-condensed", 0, phase, elements, charge, model,
                                  label if not qual else "",
-                                 name, [*raw_names, label, *extra], cas, note, (lo, hi),
-                                 ))
+                                 name, [*raw_names, label, *extra], cas, note))
     return out
 
 
@@ -801,8 +850,15 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                 aliases.append(row["Chemical"])
             if hit.common_name and hit.common_name.lower() != name.lower():
                 aliases.append(hit.common_name)
+            form = FORM_NAMES.get(name.lower()) if phase == "s" else None
+            if phase != "s":  # "tin (gray)" names a solid form, not the gas or the liquid
+                name = _strip_form(name)
+                aliases = [_strip_form(a) for a in aliases if _strip_form(a).lower() != name.lower()]
+            elif form is not None:
+                aliases += FORM_ALIASES.get(form, [])
             tm, tb = ids.tm_tb(cas)
             note_parts = []
+            missing = []
             segs = _shomate_segments(cas, phase, shomate)
             if segs is not None:
                 model = _shomate_model(segs, hf, s0)
@@ -814,28 +870,20 @@ def _tabulated(ids: Identifiers, skipped: Counter) -> list[Candidate]:
                     cp = _num(row.get(f"Cp{phase}"))
                 if cp is None:
                     cp = 0.0
-                    note_parts.append("Cp not given by the source; taken as 0 J/(mol K), "
-                                      "so ΔfH° and S° are held at their 298.15 K values")
+                    missing = ["cp"]  # the note is written with its uncertainty later
                 if phase == "l" and tm is not None and tb is not None and tm < tb:
                     lo, hi = tm, tb
                 elif phase == "s" and tm is not None and tm > T_REF:
                     lo, hi = 248.15, tm
                 else:
                     lo, hi = 248.15, 348.15
-                    note_parts.append("validity range 298.15 ± 50 K (our choice: "
+                    note_parts.append("data range 298.15 ± 50 K (our choice: "
                                       "melting/boiling points not known)" if phase != "g" else
-                                      "validity range 298.15 ± 50 K (our choice for a constant Cp)")
+                                      "data range 298.15 ± 50 K (our choice for a constant Cp)")
                 model = ConstantCp(hf, s0, cp, lo, hi)
-            stable = None
-            if phase == "l" and tm is not None and tb is not None and tm < tb:
-                stable = (tm, tb)
-            elif phase == "s" and tm is not None:
-                stable = (model.t_min, tm) if tm > model.t_min else None
-            elif phase == "g" and tb is not None and tb < model.t_max:
-                stable = (max(tb, model.t_min), model.t_max)
             note = "; ".join(note_parts)
             out.append(Candidate(key, priority, phase, elements, charge, model, "", name,
-                                 aliases, cas, note, stable))
+                                 aliases, cas, note, form=form, missing=missing))
     return out
 
 
@@ -855,18 +903,24 @@ def _aqueous(skipped: Counter) -> list[Candidate]:
             skipped["crc aq: formula not parsed"] += 1
             continue
         elements, charge = comp
-        note = []
-        if cp is None:
-            cp = 0.0
-            note.append("Cp not given by the source; taken as 0 J/(mol K), so ΔfH° and S° "
-                        "are held at their 298.15 K values")
-        note.append("validity range 273.15–373.15 K (liquid water at 1 bar, our choice)")
+        note, missing, key = [], [], "crc-aq"
+        if r["Formula"] == "H+":
+            note.append("by the hydrogen-ion convention ΔfH°, S° and Cp° of H+(aq) are zero "
+                        "at every temperature")
+        elif cp is None and r["Formula"] in aq_cp.CP_298:
+            value, ref = aq_cp.CP_298[r["Formula"]]
+            cp, key = _sig(value * aq_cp.CAL, 6), f"crc-aq+{ref}"
+            note.append(f"Cp° at 298.15 K ({value:g} cal/(mol K)) from {aq_cp.CITATIONS[ref]} "
+                        "(revised HKF model), held constant over the data range")
+        elif cp is None:
+            cp, missing = 0.0, ["cp"]  # the note is written with its uncertainty later
+        note.append("data range 273.15–373.15 K (our choice: liquid water at 1 bar)")
         model = ConstantCp(hf, s0, cp, 273.15, 373.15)
         name = _nice_name(r["Name"])
-        out.append(Candidate("crc-aq", 3, "aq", elements, charge, model, r["Formula"], name,
+        out.append(Candidate(key, 3, "aq", elements, charge, model, r["Formula"], name,
                              [r["Formula"], *AQ_ALIASES.get(r["Formula"], [])],
                              r["CAS"] if not r["CAS"].startswith("2099995") else None,
-                             "; ".join(note), (273.15, 373.15)))
+                             "; ".join(note), missing=missing))
     return out
 
 
@@ -913,8 +967,14 @@ def _select(cands: list[Candidate], dropped: Counter) -> list[Candidate]:
     chosen: list[Candidate] = []
     by_cas: set = set()
     by_name: dict = {}
-    solid_forms: dict = {}
+    forms: set = set()
     for c in cands:
+        if c.form is not None and (c.hill, c.form) not in forms:
+            # one solid form of several (an allotrope): kept under its own name, whatever
+            # else shares its CAS number and formula
+            forms.add((c.hill, c.form))
+            chosen.append(c)
+            continue
         if c.cas and (c.cas, c.phase) in by_cas:
             dropped[f"{c.source_key} {c.phase}: same CAS as a preferred record"] += 1
             continue
@@ -948,7 +1008,7 @@ def _assign_ids(chosen: list[Candidate]) -> dict[int, str]:
     for c in sorted(chosen, key=lambda c: (c.priority, c.phase, c.hill, c.name, c.cas or "")):
         label = c.label
         shared = groups[(c.hill, c.phase)] > 1
-        if label and shared and label == c.hill:
+        if label and shared and label == c.hill and not c.reference:
             label = ""  # a bare molecular formula would hide the other isomers
         base = label or c.name
         cid = f"{base}({c.phase})"
@@ -977,14 +1037,147 @@ def _aliases(c: Candidate, cid: str) -> tuple[str, ...]:
     return tuple(out)
 
 
+def _reference_forms() -> list[Candidate]:
+    """Element reference states the tables leave out: white tin (the CRC table in chemicals
+    carries only grey tin, which is not the reference state)."""
+    import chemicals
+
+    base = Path(chemicals.__file__).parent
+    webbook = {_cas_from_int(r["CAS"]): r for r in _read_tsv(base / "Misc" / "webbook_constants.tsv")}
+    s298 = float(webbook["7440-31-5"]["S0s"])
+    perry = [r for r in _read_tsv(base / "Heat Capacity" / "Perrys Table 2-151.tsv")
+             if r["Formula"].strip() == "Sn" and r["main phase"].strip() == "c"]
+    (row,) = perry
+    a, b = float(row["Constant Term"]), float(row["+*T term"])
+    c = float(row["/T^2 term"] or 0.0)
+    d = float(row["*T^2 term"] or 0.0)
+    cal = 4.184  # the table gives cal/(mol K)
+    # Cp = a + bT + c/T² + dT² (cal) as Shomate, t = T/1000: A + Bt + Ct² + Dt³ + E/t²
+    seg = (float(row["Tmin"]), float(row["Tmax"]), _sig(a * cal), _sig(b * cal * 1e3),
+           _sig(d * cal * 1e6), 0.0, _sig(c * cal / 1e6))
+    model = _shomate_model([seg], 0.0, s298)
+    note = ("white (β) tin, the reference state of tin; Cp(T) = "
+            f"{a:g} + {b:g} T cal/(mol K) from Perry's Table 2-151 (±{row['%error'].strip()} %)")
+    return [Candidate("reference-tin", 1, "s", {"Sn": 1.0}, 0, model, "Sn", "tin",
+                      ["white tin", "tin (white)", "beta-tin"], "7440-31-5", note,
+                      form="white", reference=True)]
+
+
+def _attach_phase_data(chosen: list[Candidate]) -> Counter:
+    """Melting and boiling points and vapour-pressure curves (tools/library_phase_data.py)."""
+    counts: Counter = Counter()
+    water = next(c for c in chosen if c.cas == "7732-18-5" and c.phase == "l")
+    cache: dict = {}
+    for c in sorted(chosen, key=lambda c: c.phase != "l"):  # water's liquid first
+        if c.phase == "aq":
+            continue
+        key = (c.cas, c.phase, c.form)
+        if key not in cache:
+            cache[key] = phase_tool.phase_data(c.cas if c.charge == 0 else None, c.phase, c.form)
+        c.phase_data, note = cache[key]
+        if note:
+            c.note = _join(c.note, note)
+    for c in chosen:
+        if c.phase == "aq":
+            c.phase_data = phase_tool.solvent_phase_data(water.phase_data)
+    for c in chosen:
+        pd = c.phase_data
+        counts[f"{c.phase} records"] += 1
+        if pd is not None and c.phase != "aq":
+            counts[f"{c.phase} with melting point"] += pd.t_melt is not None
+            counts[f"{c.phase} with boiling point"] += pd.t_boil is not None
+            counts[f"{c.phase} with vapour-pressure curve"] += pd.vapour_pressure is not None
+    return counts
+
+
+def _note_missing_cp(chosen: list[Candidate]) -> Counter:
+    """Records whose source gives no Cp: the note says so, and cp gets an uncertainty.
+
+    Aqueous ions: the largest |Cp°(298.15 K)| among the library's ions of the same
+    charge that have one (the spread of the known values).  Other phases: 3R per atom
+    for a condensed phase (the Dulong-Petit value) and (3n - 2)R for a gas of n > 1
+    atoms (all vibrations excited), 5R/2 for a monatomic gas: bounds of the right size,
+    our choice.
+    """
+    counts: Counter = Counter()
+    spread: dict = {}
+    for c in chosen:
+        if c.phase == "aq" and "cp" not in c.missing and c.charge != 0:
+            spread[c.charge] = max(spread.get(c.charge, 0.0), abs(float(c.model.cp(T_REF))))
+    for c in chosen:
+        if "cp" not in c.missing:
+            continue
+        n = sum(c.composition.values())
+        if c.phase == "aq":
+            u = spread.get(c.charge) or max(spread.values())
+            why = (f"the largest |Cp°| among the library's other ions of charge "
+                   f"{c.charge:+d}" if c.charge in spread else "the largest |Cp°| of any ion")
+        elif c.phase == "g":
+            u = (3 * n - 2) * R if n > 1 else 2.5 * R
+            why = "(3n − 2)R for a gas of n atoms" if n > 1 else "5R/2 for a monatomic gas"
+        else:
+            u = 3 * n * R
+            why = "3R per atom, the Dulong-Petit value"
+        u = _sig(u, 3)
+        c.uncertainty.append(("cp", u))
+        c.note = _join(c.note, f"Cp not given by the source: held at 0 J/(mol K), so ΔfH° and "
+                               f"S° keep their 298.15 K values; uncertainty ±{u:g} J/(mol K) "
+                               f"({why}; our choice)")
+        counts[f"{c.phase} without Cp"] += 1
+    return counts
+
+
+def _attach_smiles(chosen: list[Candidate], ids: Identifiers) -> Counter:
+    """SMILES from chemicals' identifier database (by CAS) for every carbon compound whose
+    structure's formula (RDKit) is the record's formula."""
+    from rdkit import Chem, RDLogger
+    from rdkit.Chem.rdMolDescriptors import CalcMolFormula
+
+    RDLogger.DisableLog("rdApp.*")
+    counts: Counter = Counter()
+    for c in chosen:
+        if "C" not in c.composition or not c.cas:
+            continue
+        hit = ids.by_cas(c.cas)
+        mol = Chem.MolFromSmiles(hit.smiles) if hit is not None and hit.smiles else None
+        comp = _composition_of(CalcMolFormula(mol)) if mol is not None else None
+        if comp is None or hill_formula(*comp) != c.hill:
+            counts["carbon compounds: no structure that fits the formula"] += 1
+            continue
+        c.smiles = hit.smiles
+        counts["carbon compounds with SMILES"] += 1
+        if "H" in c.composition:
+            counts["organic (C and H) with SMILES"] += 1
+    counts["organic (C and H) records"] = sum(1 for c in chosen
+                                             if "C" in c.composition and "H" in c.composition)
+    return counts
+
+
+def _drop_alias_clashes(chosen: list[Candidate]) -> int:
+    """An alias that is another record's name in the same phase would make that name
+    ambiguous ("tin" for grey tin): it is dropped."""
+    names = Counter((c.name.lower(), c.phase) for c in chosen)
+    n = 0
+    for c in chosen:
+        keep = [a for a in c.aliases
+                if a.lower() == c.name.lower() or names[(a.lower(), c.phase)] == 0]
+        n += len(c.aliases) - len(keep)
+        c.aliases = keep
+    return n
+
+
 def build() -> tuple[dict, dict]:
     skipped: Counter = Counter()
     ids = Identifiers()
     cands = _nasa_gas(ids, skipped) + _nasa_condensed(ids, skipped)
-    cands += _tabulated(ids, skipped) + _aqueous(skipped)
+    cands += _tabulated(ids, skipped) + _aqueous(skipped) + _reference_forms()
     dropped: Counter = Counter()
     chosen = _select(cands, dropped)
     n_atct = _attach_atct(chosen)
+    n_alias = _drop_alias_clashes(chosen)
+    phase_counts = _attach_phase_data(chosen)
+    cp_counts = _note_missing_cp(chosen)
+    smiles_counts = _attach_smiles(chosen, ids)
     id_of = _assign_ids(chosen)
     records = []
     for c in chosen:
@@ -995,8 +1188,8 @@ def build() -> tuple[dict, dict]:
             elements=tuple(sorted(c.composition.items())), charge=c.charge, phase=c.phase,
             model=c.model, source=c.source_key, note=c.note,
             uncertainty=tuple(c.uncertainty),
-            stable_range=tuple(round(x, 2) for x in c.stable_range) if c.stable_range else None,
             cas=c.cas, molar_mass=_sig(parse_formula(formula).molar_mass, 10),
+            smiles=c.smiles, phase_data=c.phase_data, missing=tuple(c.missing),
         )
         records.append(rec)
     records.sort(key=lambda r: r.id)
@@ -1015,6 +1208,10 @@ def build() -> tuple[dict, dict]:
         "by_phase": dict(sorted(Counter(r.phase for r in records).items())),
         "by_source_phase": dict(sorted(Counter(f"{r.source} {r.phase}" for r in records).items())),
         "with_atct_uncertainty": n_atct,
+        "aliases_dropped_as_other_names": n_alias,
+        "phase_boundaries": dict(sorted(phase_counts.items())),
+        "heat_capacity": dict(sorted(cp_counts.items())),
+        "structures": dict(sorted(smiles_counts.items())),
         "skipped": dict(sorted(skipped.items())),
         "dropped_as_duplicates": dict(sorted(dropped.items())),
     }
@@ -1022,7 +1219,11 @@ def build() -> tuple[dict, dict]:
 
 
 FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase", "model",
-          "source", "note", "uncertainty", "stable_range", "cas", "molar_mass")
+          "source", "note", "uncertainty", "cas", "molar_mass", "smiles", "phase_data",
+          "missing")
+
+
+_ABSENT = {f: None for f in FIELDS} | {"missing": []}
 
 
 def dumps(data: dict) -> str:
@@ -1037,7 +1238,7 @@ def dumps(data: dict) -> str:
     for k in sorted(head):
         lines.append(f"{json.dumps(k)}: {json.dumps(head[k], sort_keys=True, ensure_ascii=False)},")
     lines.append('"records": [')
-    rows = [json.dumps([r[f] for f in FIELDS], sort_keys=True, ensure_ascii=False,
+    rows = [json.dumps([r.get(f, _ABSENT[f]) for f in FIELDS], sort_keys=True, ensure_ascii=False,
                        separators=(",", ":"))
             for r in data["records"]]
     lines.append(",\n".join(rows))

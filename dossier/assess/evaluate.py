@@ -9,6 +9,7 @@ from the :class:`Evaluation`, never by resolving anything again.
 """
 from __future__ import annotations
 
+import importlib.metadata
 from dataclasses import dataclass
 
 import numpy as np
@@ -17,15 +18,17 @@ from dossier import __version__
 from dossier.assess.batch import assess_batch
 from dossier.assess.resolve import Resolution, resolve_species, unused_table_warning
 from dossier.assess.rules import RuleSubject, run_rules
+from dossier.assess.solution import SolutionPlan, plan_equilibrium
 from dossier.chem.reaction import Reaction, Term, check_balance, parse_reaction
 from dossier.constants import T_REF
-from dossier.engine.equilibrium import EqSpecies, EquilibriumSystem
+from dossier.engine.phases import StableRange, describe_range, phase_warnings, stable_range
 from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.engine.thermo import ReactionThermo, temperature_grid
 from dossier.errors import CaseError, DossierError, Problem
 from dossier.library.lookup import Library
 from dossier.library.record import SpeciesRecord
-from dossier.model.assessment import Assessment, ProfileRow, SpeciesUse, Thermodynamics
+from dossier.model.assessment import (Assessment, ProfileRow, SolutionState, SpeciesUse,
+                                      Thermodynamics)
 from dossier.model.case import Case
 
 CAUTIONS: tuple[str, ...] = (
@@ -53,20 +56,26 @@ class Evaluation:
     reaction_records: tuple[SpeciesRecord, ...]  # one per term, in the order of assessment.species
     records: tuple[SpeciesRecord, ...]        # every record used: the terms', then the screening's
     settings: MethodSettings
+    #: (package, version) of each general-purpose library whose numbers this assessment
+    #: used: thermo for activity coefficients and Joback estimates, pgradd for Benson
+    #: estimates, rdkit for reading structures.  Part of the integrity record.
+    method_libraries: tuple[tuple[str, str], ...] = ()
 
 
 def evaluate(case: Case, library: Library, extra_temperatures: tuple[float, ...] = (),
              settings: MethodSettings = DEFAULT) -> Evaluation:
     """The assessment of ``case`` with the records, properties and settings it used."""
     reaction = _located(case, "reaction", lambda: parse_reaction(case.reaction))
-    resolution = resolve_species(case, reaction, library)
+    resolution = resolve_species(case, reaction, library, settings)
     compositions = {r.term.key: (r.record.composition, r.record.charge)
                     for r in resolution.terms}
     _located(case, "reaction", lambda: check_balance(reaction, compositions))
     nus = tuple(float(nu) for nu, _term in reaction.signed())
     properties = ReactionThermo(nus, tuple(r.model for r in resolution.records))
-    uses, warnings = _species_uses(case, resolution, nus)
-    thermo = _thermodynamics(case, reaction, properties, extra_temperatures, settings)
+    uses, warnings = _species_uses(case, resolution, nus, settings)
+    thermo, plan = _thermodynamics(case, reaction, properties, extra_temperatures, settings,
+                                   resolution, library)
+    warnings += plan.warnings
     batch = assess_batch(case, reaction, resolution, properties,
                          _basis_term(case, reaction), library, settings)
     findings = run_rules(RuleSubject(case=case, thermo=thermo, safety=batch.safety,
@@ -78,8 +87,32 @@ def evaluate(case: Case, library: Library, extra_temperatures: tuple[float, ...]
         species=uses, thermo=thermo, safety=batch.safety, findings=findings,
         warnings=warnings, cautions=CAUTIONS, library_version=library.version,
         tool_version=__version__)
-    used = {r.id: r for r in resolution.records + batch.product_records}
-    return Evaluation(assessment, properties, resolution.records, tuple(used.values()), settings)
+    used = {r.id: r for r in resolution.records + batch.product_records + plan.records}
+    return Evaluation(assessment, properties, resolution.records, tuple(used.values()), settings,
+                      method_libraries(case, assessment))
+
+
+def method_libraries(case: Case, assessment: Assessment) -> tuple[tuple[str, str], ...]:
+    """The libraries whose numbers ``assessment`` rests on, with their installed versions
+    (read from the package metadata, without importing them)."""
+    used = set()
+    if assessment.thermo.activity_model != "ideal":
+        used.add("thermo")
+    for sp in case.species:
+        if sp.estimate is not None:
+            used |= {"thermo", "rdkit"} | ({"pgradd"} if str(sp.estimate) == "benson" else set())
+    if assessment.safety is not None and any(
+            e.explosophores or not e.explosophore_note.startswith("not checked")
+            for e in assessment.safety.energetics):
+        used.add("rdkit")
+    return tuple((name, _version(name)) for name in sorted(used))
+
+
+def _version(package: str) -> str:
+    try:
+        return importlib.metadata.version(package)
+    except importlib.metadata.PackageNotFoundError:
+        return "not installed"
 
 
 def assess_case(case: Case, library: Library, extra_temperatures: tuple[float, ...] = (),
@@ -97,33 +130,37 @@ def _located(case: Case, key: str, step):
                          for p in err.problems]) from None
 
 
-def _species_uses(case: Case, resolution: Resolution, nus: tuple[float, ...]
-                  ) -> tuple[tuple[SpeciesUse, ...], tuple[str, ...]]:
-    """What each term uses, and the warnings about the data (ranges, replaced records,
+def _species_uses(case: Case, resolution: Resolution, nus: tuple[float, ...],
+                  settings: MethodSettings) -> tuple[tuple[SpeciesUse, ...], tuple[str, ...]]:
+    """What each term uses, and the warnings about the data (data ranges, phases that are
+    not the stable ones at the case pressure, missing heat capacities, replaced records,
     unused case tables)."""
     t_lo, t_hi = case.window
     uses, warnings = [], []
     for r, nu in zip(resolution.terms, nus):
         rec, m, key = r.record, r.record.model, r.term.key
+        sr = stable_range(rec.phase, rec.phase_data, case.pressure,
+                          normal_pressure=settings.normal_boiling_pressure_Pa,
+                          trouton=settings.trouton_entropy_J_molK,
+                          extrapolation=settings.vapour_pressure_extrapolation)
         uses.append(SpeciesUse(
             key=key, nu=nu, record_id=rec.id, name=rec.name, formula=rec.formula,
             phase=rec.phase, model=m.kind, t_min_K=float(m.t_min), t_max_K=float(m.t_max),
-            stable_range_K=rec.stable_range, hf298_kJ_mol=rec.hf298 / 1e3,
+            stable_phase_K=_limits(sr), stable_phase=describe_range(sr),
+            hf298_kJ_mol=rec.hf298 / 1e3,
             s298_J_molK=rec.s298, cp298_J_molK=float(m.cp(T_REF)),
             molar_mass_g_mol=rec.molar_mass, source=rec.source, note=rec.note,
-            uncertainty=rec.uncertainty, local=r.local, overrides_library=r.replaces is not None,
-            digest=rec.digest()))
+            uncertainty=rec.uncertainty, missing=rec.missing, local=r.local,
+            overrides_library=r.replaces is not None, digest=rec.digest()))
         if t_lo < m.t_min or t_hi > m.t_max:
             warnings.append(
-                f"{key}: the {m.kind} data are valid for {m.t_min:.2f}-{m.t_max:.2f} K; "
-                f"the window {t_lo:.2f}-{t_hi:.2f} K extends beyond them, so values there are "
+                f"{key}: the {m.kind} data range is {m.t_min:.2f}-{m.t_max:.2f} K; "
+                f"the window {t_lo:.2f}-{t_hi:.2f} K extends beyond it, so values there are "
                 "extrapolated")
-        if rec.stable_range and (t_lo < rec.stable_range[0] or t_hi > rec.stable_range[1]):
-            lo, hi = rec.stable_range
-            warnings.append(
-                f"{key}: at 1 bar this phase is the stable one only between {lo:.2f} and "
-                f"{hi:.2f} K; part of the window lies outside (at {case.pressure / 1e5:g} bar "
-                "the boundaries shift): check that the phase written is the one present")
+        if sr is not None:
+            warnings.extend(phase_warnings(key, rec.phase, rec.phase_data, sr, case.window))
+        if "cp" in rec.missing:
+            warnings.append(_missing_cp_warning(key, nu, rec, case.window))
         if r.replaces is not None:
             warnings.append(f"{key}: the case's own data replace the library record "
                             f"'{r.replaces}'")
@@ -131,9 +168,31 @@ def _species_uses(case: Case, resolution: Resolution, nus: tuple[float, ...]
     return tuple(uses), tuple(warnings)
 
 
+def _limits(sr: StableRange | None) -> tuple[float | None, float | None] | None:
+    """The stable range's two ends in K (None for no limit), or None without boundaries."""
+    if sr is None:
+        return None
+    if sr.never:
+        return ()  # stable at no temperature at this pressure
+    return (sr.lower.T_K if sr.lower else None, sr.upper.T_K if sr.upper else None)
+
+
+def _missing_cp_warning(key: str, nu: float, rec: SpeciesRecord,
+                        window: tuple[float, float]) -> str:
+    """A record without heat capacity: what it is held at, and what that can cost."""
+    u = dict(rec.uncertainty).get("cp", 0.0)
+    far = max(window, key=lambda T: abs(T - T_REF))
+    cost = abs(nu) * u * abs(far - T_REF) / 1e3
+    return (f"{key}: its source gives no heat capacity, so Cp is held at 0 J/(mol·K) with an "
+            f"uncertainty of ±{u:.0f} J/(mol·K) (see the record's note); ΔH° may be off by up to "
+            f"{cost:.1f} kJ/mol at {far:.2f} K, and ΔS° and ΔG° likewise away from 298.15 K")
+
 def _profile(case: Case, reaction: Reaction, properties: ReactionThermo, grid: np.ndarray,
-             requested: set[float]) -> tuple[tuple[ProfileRow, ...], str, str]:
-    """The rows of the profile table, with the equilibrium's mode and note."""
+             requested: set[float], plan_of) -> tuple[tuple[ProfileRow, ...], str, str,
+                                                      SolutionPlan, tuple[SolutionState, ...]]:
+    """The rows of the profile table, with the equilibrium's mode and note, the
+    equilibrium system's plan (``plan_of(basis)`` makes it) and the liquid solution at
+    the ends of the window."""
     with np.errstate(all="ignore"):  # non-finite values are reported just below
         dH = properties.dH(grid)
         dS = properties.dS(grid)
@@ -147,13 +206,19 @@ def _profile(case: Case, reaction: Reaction, properties: ReactionThermo, grid: n
                                  "and the species data", str(case.path),
                                  case.line_of("temperature"), "temperature")])
     data_lo, data_hi = properties.data_range
-    eq = _equilibrium_system(case, reaction, _basis_term(case, reaction))
-    rows = []
-    mode, note = "solved", ""
+    plan = plan_of(_basis_term(case, reaction))
+    rows, states = [], []
+    mode, note, split_at = "solved", "", []
     for i, T in enumerate(grid):
-        res = eq.solve(float(T), float(lnK[i]))
+        res = plan.system.solve(float(T), float(lnK[i]))
         mode = res.mode
-        note = res.note if res.mode == "all-or-nothing" else note
+        if res.mode == "all-or-nothing":
+            note = res.note
+        elif res.note.startswith("the activity model"):
+            note = res.note
+            split_at.append(float(T))
+        if float(T) in case.window and res.x:
+            states.append(SolutionState(float(T), res.x, res.gammas))
         rows.append(ProfileRow(
             T_K=float(T), dH_kJ_mol=float(dH[i]) / 1e3, dS_J_molK=float(dS[i]),
             dG_kJ_mol=float(dG[i]) / 1e3, lnK=float(lnK[i]),
@@ -161,17 +226,23 @@ def _profile(case: Case, reaction: Reaction, properties: ReactionThermo, grid: n
             q_surr_kJ_mol=float(-dH[i]) / 1e3, conversion=float(res.conversion),
             extrapolated=bool(T < data_lo or T > data_hi),
             requested=float(np.round(T, 9)) in requested))
-    return tuple(rows), mode, note
+    if split_at:
+        note = (f"{note} (at {len(split_at)} of the {len(rows)} temperatures, from "
+                f"{min(split_at):.2f} to {max(split_at):.2f} K)")
+    return tuple(rows), mode, note, plan, tuple(states)
 
 
 def _thermodynamics(case: Case, reaction: Reaction, properties: ReactionThermo,
-                    extra_temperatures: tuple[float, ...], settings: MethodSettings
-                    ) -> Thermodynamics:
+                    extra_temperatures: tuple[float, ...], settings: MethodSettings,
+                    resolution: Resolution, library: Library
+                    ) -> tuple[Thermodynamics, SolutionPlan]:
     t_lo, t_hi = case.window
     grid = temperature_grid(t_lo, t_hi, extra_temperatures, steps=settings.grid_steps_K,
                             min_step=settings.grid_min_step_K, max_points=settings.grid_max_rows)
     requested = set(np.round(np.asarray(extra_temperatures, dtype=float), 9).tolist())
-    rows, mode, note = _profile(case, reaction, properties, grid, requested)
+    rows, mode, note, plan, states = _profile(
+        case, reaction, properties, grid, requested,
+        lambda basis: plan_equilibrium(case, reaction, resolution, basis, library, settings))
     data_lo, data_hi = properties.data_range
     # Crossovers: in the window, and across the data range around it.
     scan_min, scan_max = settings.crossover_scan_K
@@ -190,7 +261,9 @@ def _thermodynamics(case: Case, reaction: Reaction, properties: ReactionThermo,
         dG298_kJ_mol=(dH298 - T_REF * dS298) / 1e3,
         crossovers=crossovers, crossover_constant_K=const_cross, profile=rows,
         equilibrium_mode=mode, equilibrium_note=note, basis=_basis_term(case, reaction).key,
-        favourable=favourable)
+        favourable=favourable, activity_model=plan.requested, solution_model=plan.used,
+        solution_model_text=plan.model_text, solution_members=plan.members,
+        solution_groups=plan.groups, solution_note=plan.note, solution_states=states), plan
 
 
 def _basis_term(case: Case, reaction: Reaction) -> Term:
@@ -205,15 +278,6 @@ def _basis_term(case: Case, reaction: Reaction) -> Term:
     raise CaseError([Problem(f"expected one of the reactants as written in the reaction "
                              f"({keys}); got '{case.charge.basis}'", str(case.path),
                              case.line_of("charge.basis"), "charge.basis")])
-
-
-def _equilibrium_system(case: Case, reaction: Reaction, basis: Term) -> EquilibriumSystem:
-    species = tuple(EqSpecies(float(nu), term.phase) for nu, term in reaction.signed())
-    inert_gas = 0.0
-    for label, per_basis in case.inerts:
-        if label.replace(" ", "").endswith("(g)"):
-            inert_gas += per_basis * float(basis.coefficient)
-    return EquilibriumSystem(species, case.pressure, inert_gas)
 
 
 __all__ = ["CAUTIONS", "Evaluation", "evaluate", "assess_case"]

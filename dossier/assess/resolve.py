@@ -11,20 +11,36 @@ this case, so it replaces any library record for the same species, and the
 dossier says so.  Only then is the library asked.  A ``[[species]]`` table
 that no term of the reaction and no inert uses is reported, never silently
 dropped.
+
+A table may instead give its structure and ask for an estimate (``estimate``):
+its record then holds the group-additivity estimate of
+:mod:`dossier.engine.estimate`, with the method's uncertainty.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-from dossier.chem.formula import parse_formula
+from dossier.chem.formula import Formula, parse_formula
 from dossier.chem.phases import normalise_phase, split_phase
 from dossier.chem.reaction import Reaction, Term
 from dossier.constants import T_REF
-from dossier.errors import CaseError, DossierError, FormulaError, Problem
+from dossier.engine.estimate import (JOBACK_SOURCE, Estimate, composition_of, estimate_species,
+                                     read_structure)
+from dossier.engine.settings import DEFAULT, MethodSettings
+from dossier.errors import CaseError, DossierError, FormulaError, Problem, SpeciesError
 from dossier.library.lookup import Library
 from dossier.library.models import ConstantCp
+from dossier.library.phasedata import PhaseData
 from dossier.library.record import SpeciesRecord
 from dossier.model.case import Case, LocalSpecies
+
+
+#: How the source of an estimated record begins.
+ESTIMATE_PREFIX = "estimate from the structure: "
+
+
+class StructureError(SpeciesError):
+    """A [[species]] table's structure is the problem (reported at its `smiles`)."""
 
 
 @dataclass(frozen=True)
@@ -42,7 +58,8 @@ class ResolvedTerm:
 
     @property
     def smiles(self) -> str | None:
-        return self.table.smiles if self.table is not None else None
+        """The structure: the case table's, or the library record's where it has one."""
+        return self.record.smiles
 
 
 @dataclass(frozen=True)
@@ -60,10 +77,14 @@ class Resolution:
         return next(r.record for r in self.terms if r.term.key == key)
 
 
-def local_record(sp: LocalSpecies, window: tuple[float, float]) -> SpeciesRecord:
-    """A species record built from a case's own [[species]] table (constant Cp)."""
+def local_record(sp: LocalSpecies, window: tuple[float, float],
+                 settings: MethodSettings = DEFAULT) -> SpeciesRecord:
+    """A species record built from a case's own [[species]] table: its values with a
+    constant Cp, or the estimate it asks for (:func:`estimated_record`)."""
     formula = parse_formula(sp.formula)
     phase = normalise_phase(str(sp.phase))
+    if sp.estimated:
+        return estimated_record(sp, formula, phase, settings)
     lo, hi = sp.t_range if sp.t_range else (min(T_REF, window[0]), max(T_REF, window[1]))
     return SpeciesRecord(
         id=f"{sp.name}({phase})",
@@ -78,10 +99,89 @@ def local_record(sp: LocalSpecies, window: tuple[float, float]) -> SpeciesRecord
         note="constant heat capacity" + ("" if sp.t_range else
                                          " (no range given: taken as valid over the window)"),
         uncertainty=tuple(sp.uncertainty),
-        stable_range=None,
         cas=None,
         molar_mass=formula.molar_mass,
+        smiles=sp.smiles,
     )
+
+
+def estimated_record(sp: LocalSpecies, formula: Formula, phase: str,
+                     settings: MethodSettings) -> SpeciesRecord:
+    """The record of a [[species]] table whose data are estimated from its SMILES.
+
+    Raises :class:`SpeciesError` when no estimate can be made or the structure does
+    not have the table's formula."""
+    structure_composition(sp, settings)
+    est = estimate_species(str(sp.smiles).strip(), phase, str(sp.estimate), settings)
+    note = "; ".join(est.notes + ((f"groups: {est.groups}",) if est.groups else ()))
+    return SpeciesRecord(
+        id=f"{sp.name}({phase})",
+        name=sp.name,
+        aliases=(f"{formula.hill}({phase})",) if sp.name != formula.hill else (),
+        formula=formula.hill,
+        elements=tuple((e, float(n)) for e, n in formula.elements),
+        charge=formula.charge,
+        phase=phase,
+        model=est.model,
+        source=(f"{ESTIMATE_PREFIX}{est.summary}: " + "; ".join(est.sources)
+                + (f" (case note: {sp.source})" if sp.source else "")),
+        note=note,
+        uncertainty=est.uncertainty,
+        cas=None,
+        molar_mass=formula.molar_mass,
+        smiles=sp.smiles,
+        phase_data=_estimated_phase_data(est),
+    )
+
+
+def _estimated_phase_data(est: Estimate) -> PhaseData | None:
+    """The estimated normal boiling and melting points as phase boundaries, each with
+    its method and standard uncertainty as its source."""
+    points = [(what, q) for what, q in (("boiling point", est.t_boil),
+                                        ("melting point", est.t_melt)) if q is not None]
+    if not points:
+        return None
+    return PhaseData(
+        t_boil=est.t_boil.value if est.t_boil else None,
+        t_melt=est.t_melt.value if est.t_melt else None,
+        sources=tuple((what, f"estimate by the Joback method ({JOBACK_SOURCE}), standard "
+                             f"uncertainty {q.uncertainty:.0f} K (published error)")
+                      for what, q in points))
+
+
+def structure_composition(sp: LocalSpecies, settings: MethodSettings) -> dict[str, float]:
+    """The composition of a table's SMILES, which must be the table's formula.
+
+    Raises :class:`StructureError` when the SMILES cannot be read or estimated from, or
+    describes another formula."""
+    try:
+        got = composition_of(read_structure(str(sp.smiles), settings))
+    except SpeciesError as err:
+        raise StructureError(err.problems) from None
+    want = {e: float(n) for e, n in parse_formula(sp.formula).elements}
+    if got != want:
+        show = "".join(f"{e}{n:g}" for e, n in sorted(got.items()))
+        raise StructureError(f"the SMILES describes {show}, not the formula '{sp.formula}': "
+                             "correct the one that is wrong")
+    return got
+
+
+def _local_records(case: Case, settings: MethodSettings
+                   ) -> list[tuple[int, LocalSpecies, SpeciesRecord]]:
+    """Every [[species]] table with its record; an estimate that cannot be made is an
+    error at the table's `estimate` key (a structure problem at its `smiles`)."""
+    out, problems = [], []
+    for i, sp in enumerate(case.species):
+        try:
+            out.append((i, sp, local_record(sp, case.window, settings)))
+        except SpeciesError as err:
+            key = f"species[{i + 1}]." + ("smiles" if isinstance(err, StructureError)
+                                          else "estimate")
+            problems.extend(Problem(f"species '{sp.name}': {p.message}", str(case.path),
+                                    case.line_of(key), key) for p in err.problems)
+    if problems:
+        raise CaseError(problems)
+    return out
 
 
 def _composition_key(text: str) -> tuple | None:
@@ -115,14 +215,16 @@ def _library_record(library: Library, term: Term) -> SpeciesRecord | None:
         return None
 
 
-def resolve_species(case: Case, reaction: Reaction, library: Library) -> Resolution:
+def resolve_species(case: Case, reaction: Reaction, library: Library,
+                    settings: MethodSettings = DEFAULT) -> Resolution:
     """The record of every term of ``reaction``; every problem located at the reaction.
 
     Raises :class:`CaseError` listing every term that matches nothing (or
-    matches several of the case's tables, or several library records).
+    matches several of the case's tables, or several library records), or the
+    [[species]] tables whose estimate cannot be made (located at the table).
     """
     path, line = str(case.path), case.line_of("reaction")
-    local = [(i, sp, local_record(sp, case.window)) for i, sp in enumerate(case.species)]
+    local = _local_records(case, settings)
     used: set[int] = set()
     problems: list[Problem] = []
     out: list[ResolvedTerm] = []
@@ -166,5 +268,6 @@ def unused_table_warning(case: Case, index: int, sp: LocalSpecies) -> str:
             "formula with that phase, or remove the table")
 
 
-__all__ = ["ResolvedTerm", "Resolution", "local_record", "resolve_species",
+__all__ = ["ESTIMATE_PREFIX", "ResolvedTerm", "Resolution", "StructureError", "local_record",
+           "estimated_record", "structure_composition", "resolve_species",
            "unused_table_warning"]

@@ -8,13 +8,19 @@ Severity words: information < caution < warning < critical.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Callable, Iterable, Iterator
 
-from dossier.constants import ZERO_CELSIUS
+from dossier.assess.resolve import ESTIMATE_PREFIX
+from dossier.chem.formula import parse_formula
+from dossier.constants import R, T_REF, ZERO_CELSIUS
+from dossier.engine.estimate import estimate_species
+from dossier.engine.phases import PHASE_WARNING_MARK
 from dossier.engine.settings import MethodSettings
+from dossier.errors import DossierError
 from dossier.model.assessment import Safety, SpeciesUse, Thermodynamics
-from dossier.model.case import Case
+from dossier.model.case import Case, LocalSpecies
 from dossier.model.findings import Finding
 from dossier.temperature import kelvin_celsius
 
@@ -72,6 +78,16 @@ def crossover_in_window(subj: RuleSubject) -> Iterator[Finding]:
                       THERMO_SOURCE)
 
 
+#: How the equilibrium treated the liquids, for the source of the finding.
+_LIQUIDS = {
+    "": "pure condensed phases",
+    "ideal": "pure solids, the liquids as one ideal solution",
+    "unifac": "pure solids, the liquids as one solution with UNIFAC activity coefficients",
+    "unifac-dortmund": ("pure solids, the liquids as one solution with modified UNIFAC "
+                        "(Dortmund) activity coefficients"),
+}
+
+
 def equilibrium_limited(subj: RuleSubject) -> Iterator[Finding]:
     t = subj.thermo
     lo, hi = t.window_K
@@ -81,24 +97,37 @@ def equilibrium_limited(subj: RuleSubject) -> Iterator[Finding]:
     if low:
         worst = min(low, key=lambda r: r.conversion)
         yield Finding("equilibrium-limited", "caution",
-                      f"Equilibrium conversion of {t.basis} falls below {limit:.0%} in the "
-                      f"window (lowest {worst.conversion:.1%} at {kelvin_celsius(worst.T_K)}, "
-                      f"{t.pressure_bar:g} bar): the reaction cannot go to completion there "
-                      "without removing a product or changing pressure or temperature.",
-                      "Equilibrium of one reaction, ideal gases and pure condensed phases "
+                      f"The equilibrium stops short of completion in the window: the conversion "
+                      f"of {t.basis} falls below {limit:.1%} (lowest {worst.conversion:.1%} at "
+                      f"{kelvin_celsius(worst.T_K)}, {t.pressure_bar:g} bar), so the reaction "
+                      "cannot go to completion there without removing a product or changing "
+                      "pressure or temperature.",
+                      f"Equilibrium of one reaction, ideal gases and "
+                      f"{_LIQUIDS.get(t.solution_model, t.solution_model)} "
                       "(stoichiometric feed)")
 
 
 def extrapolated(subj: RuleSubject) -> Iterator[Finding]:
     for w in subj.warnings:
-        if "extrapolated" in w or "stable one only" in w:
+        if "extrapolated" in w and PHASE_WARNING_MARK not in w:
             yield Finding("extrapolated-data", "caution", w,
-                          "Validity ranges of the species data (library records)")
+                          "Validity ranges of the species data and of the methods")
+
+
+def phase_not_stable(subj: RuleSubject) -> Iterator[Finding]:
+    """A species written in a phase that is not the stable one in part of the window."""
+    for w in subj.warnings:
+        if PHASE_WARNING_MARK in w:
+            yield Finding("phase-not-stable", "caution", w,
+                          "Phase boundaries of the species at the case pressure: melting and "
+                          "normal boiling points and vapour-pressure curves (library records, "
+                          "sources named on each species page)")
 
 
 def case_local(subj: RuleSubject) -> Iterator[Finding]:
+    estimated = {sp.name for sp in subj.case.species if sp.estimated}
     for s in subj.species:
-        if s.local:
+        if s.local and s.name not in estimated:  # estimates have their own finding
             units = {"hf": (1e3, "kJ/mol"), "s": (1.0, "J/(mol·K)"), "cp": (1.0, "J/(mol·K)")}
             unc = ", ".join(f"{k} ± {v / units.get(k, (1.0, ''))[0]:g} {units.get(k, (1.0, ''))[1]}".rstrip()
                             for k, v in s.uncertainty)
@@ -107,6 +136,79 @@ def case_local(subj: RuleSubject) -> Iterator[Finding]:
                           + (f" with stated uncertainty {unc}" if unc else " with no stated uncertainty")
                           + (", replacing the library record" if s.overrides_library else "")
                           + ".", "Case file [[species]] table")
+
+
+ESTIMATE_SHORT = ("Group-additivity estimate from the structure: Benson, Thermochemical "
+                  "Kinetics, 2nd ed. (1976), group values of pgradd; Joback and Reid, Chem. Eng. "
+                  "Comm. 57 (1987) 233; liquids by Lee–Kesler and Rowlinson–Poling. "
+                  "Uncertainties from the methods' published accuracy (methods page)")
+
+
+def estimated_data(subj: RuleSubject) -> Iterator[Finding]:
+    """Species whose data are estimated from their structure, and the estimates asked
+    for beside a case's own values (then compared with them)."""
+    tables = {sp.name: sp for sp in subj.case.species if sp.estimate is not None}
+    for s in subj.species:
+        table = tables.get(s.name) if s.local else None
+        if table is None:
+            continue
+        if table.estimated:
+            yield _estimated(s)
+        else:
+            yield _estimate_check(s, table, subj.settings)
+
+
+def _estimated(s: SpeciesUse) -> Finding:
+    u = dict(s.uncertainty)
+    how = s.source.removeprefix(ESTIMATE_PREFIX).split(": ", 1)[0]
+    nu = abs(s.nu)
+    u_g = math.hypot(nu * u["hf"], nu * T_REF * u["s"])  # J/mol, the two taken as independent
+    return Finding(
+        "estimated-data", "caution",
+        f"{s.key} has no data in the library or the case: its values are estimated from its "
+        f"structure ({how}): ΔfH° {s.hf298_kJ_mol:.1f} ± {u['hf'] / 1e3:.1f} kJ/mol, S° "
+        f"{s.s298_J_molK:.1f} ± {u['s']:.1f} J/(mol·K), Cp° {s.cp298_J_molK:.1f} ± "
+        f"{u['cp']:.1f} J/(mol·K) (one standard uncertainty each). As written in the reaction "
+        f"they carry ± {nu * u['hf'] / 1e3:.1f} kJ/mol into ΔrH° and ± {nu * u['s']:.1f} "
+        f"J/(mol·K) into ΔrS°, together ± {u_g / 1e3:.1f} kJ/mol into ΔrG° at 298.15 K: K is "
+        f"uncertain by a factor of about {math.exp(u_g / (R * T_REF)):.3g} there. Replace them "
+        "by measured values before the figures are relied on.", ESTIMATE_SHORT)
+
+
+def _estimate_check(s: SpeciesUse, table: LocalSpecies, settings: MethodSettings) -> Finding:
+    """The case's own values of ``s`` against the estimate its table asks for."""
+    try:
+        est = estimate_species(str(table.smiles).strip(), s.phase, str(table.estimate), settings)
+    except DossierError as err:
+        return Finding("estimated-data", "caution",
+                       f"{s.key} uses the case's own values; the estimate asked for beside them "
+                       f"could not be made: {err.problems[0].message}.", ESTIMATE_SHORT)
+    limit = settings.estimate_disagreement_u
+    given = {"hf": s.hf298_kJ_mol * 1e3, "s": s.s298_J_molK, "cp": s.cp298_J_molK}
+    words = {"hf": ("ΔfH°", 1e3, "kJ/mol"), "s": ("S°", 1.0, "J/(mol·K)"),
+             "cp": ("Cp°", 1.0, "J/(mol·K)")}
+    parts, apart = [], []
+    for key, q in (("hf", est.hf), ("s", est.s), ("cp", est.cp)):
+        name, scale, unit = words[key]
+        parts.append(f"{name} {given[key] / scale:.1f} given, {q.value / scale:.1f} ± "
+                     f"{q.uncertainty / scale:.1f} {unit} estimated")
+        if abs(given[key] - q.value) > limit * q.uncertainty:
+            apart.append(name)
+    formula = dict(est.composition) == _elements_of(s.formula)
+    verdict = (f"They differ by more than {limit:g} standard uncertainties of the estimate in "
+               f"{', '.join(apart)}: check the values and their source."
+               if apart else f"They agree within {limit:g} standard uncertainties.")
+    if not formula:
+        verdict = "The SMILES does not describe the formula given: check the structure."
+    return Finding("estimated-data", "caution" if apart or not formula else "information",
+                   f"{s.key} uses the case's own values; the estimate asked for beside them "
+                   f"({est.summary}) gives: " + "; ".join(parts) + ". " + verdict,
+                   ESTIMATE_SHORT)
+
+
+def _elements_of(formula: str) -> dict[str, float]:
+    """Element counts of a formula."""
+    return {e: float(n) for e, n in parse_formula(formula).elements}
 
 
 def exotherm_severity(subj: RuleSubject) -> Iterator[Finding]:
@@ -235,7 +337,9 @@ RULES: tuple[Rule, ...] = (
     ("crossover-in-window", crossover_in_window),
     ("equilibrium-limited", equilibrium_limited),
     ("extrapolated-data", extrapolated),
+    ("phase-not-stable", phase_not_stable),
     ("case-local-data", case_local),
+    ("estimated-data", estimated_data),
     ("exotherm-severity", exotherm_severity),
     ("criticality-class", criticality),
     ("runaway-probability", probability),

@@ -1,7 +1,8 @@
 """Energetic screening of the species of a case: oxygen balance, the maximum
 decomposition energy into simple products, explosophore groups and the UN
 Appendix 6 screening, for each species whose composition allows the usual
-energetic groups (or that the case gave a structure).
+energetic groups and for every species with a structure (a case table's
+``smiles``, an estimated species, or a library record that carries one).
 
 Pure: resolved species, the library (for the products' ΔfH°) and the method
 settings in; :class:`~dossier.model.assessment.EnergeticScreen` records out,
@@ -28,6 +29,9 @@ SCREENING_LABELS = {
 }
 _ONSET_UNKNOWN = ("decomposition.onset (onset of exothermic decomposition) missing",
                   "this species' own decomposition onset is not known")
+#: What the screening says when RDKit, a run-time dependency, cannot be imported.
+NO_TOOLKIT = ("not checked: RDKit, which reads the structure, could not be imported "
+              "(a broken installation: reinstall dossier's dependencies)")
 
 
 def decomposition_products(library: Library, settings: MethodSettings
@@ -45,14 +49,17 @@ def decomposition_products(library: Library, settings: MethodSettings
 
 
 def is_screened(rec: SpeciesRecord) -> bool:
-    """Species whose composition allows the usual energetic groups.
+    """Species that are screened: every species with a structure, and those whose
+    composition allows the usual energetic groups.
 
-    Nitrogen together with oxygen (nitro, nitrate, nitroso, N-oxide, ammonium
-    nitrate) or halogen together with oxygen (chlorate, perchlorate).  Peroxides
-    cannot be told from a formula: give the species a structure (``smiles``
-    in a case-local record) to have its groups checked.  Species with a
-    structure are always screened.
+    From the composition alone: nitrogen together with oxygen (nitro, nitrate,
+    nitroso, N-oxide, ammonium nitrate) or halogen together with oxygen (chlorate,
+    perchlorate).  Peroxides, azides, acetylenes and strained rings cannot be told
+    from a formula: they are found only in a structure (``smiles`` of a case table,
+    or of the library record).
     """
+    if rec.smiles:
+        return True
     comp = rec.composition
     if "O" not in comp:
         return False
@@ -85,6 +92,8 @@ def screen_species(rec: SpeciesRecord, smiles: str | None, products: tuple[Produ
         outcome, reason = scr.outcome, scr.reason.replace(*_ONSET_UNKNOWN)
         hits = tuple(h.name for h in scr.groups.hits)
         note = scr.groups.note
+        if smiles and not scr.groups.checked:
+            reason, note = reason.replace(note, NO_TOOLKIT), NO_TOOLKIT
     except DossierError as err:
         outcome, reason, hits, note = "undecided", str(err), (), ""
     return EnergeticScreen(species=rec.name if rec.name else rec.id, oxygen_balance_pct=ob,
@@ -97,12 +106,13 @@ def screen_terms(terms: tuple[ResolvedTerm, ...], library: Library, settings: Me
                  ) -> tuple[tuple[EnergeticScreen, ...], tuple[SpeciesRecord, ...]]:
     """Screens of the species that need one, and the product records used (none when
     no species needed screening)."""
-    chosen = [t for t in terms if is_screened(t.record) or t.smiles]
+    chosen = [t for t in terms if is_screened(t.record)]
     if not chosen:
         return (), ()
     products, records = decomposition_products(library, settings)
-    return tuple(screen_species(t.record, t.smiles, products, settings) for t in chosen), records
+    return (tuple(screen_species(t.record, t.record.smiles, products, settings)
+                  for t in chosen), records)
 
 
-__all__ = ["SCREENING_LABELS", "decomposition_products", "is_screened", "screen_species",
-           "screen_terms"]
+__all__ = ["SCREENING_LABELS", "NO_TOOLKIT", "decomposition_products", "is_screened",
+           "screen_species", "screen_terms"]

@@ -9,6 +9,8 @@ whole on every case key (:func:`build_key`, kept in the site's manifest).
 """
 from __future__ import annotations
 
+import importlib.metadata
+
 import importlib.util
 import json
 from dataclasses import dataclass
@@ -74,11 +76,27 @@ def build_settings(packets: bool = True, meeting: str | None = None) -> BuildSet
     pkg = files("dossier")
     docs = tree_digest(files("dossier.docs")) if has_package("dossier.docs") else ""
     return BuildSettings(
-        code=key(__version__, tree_digest(pkg, (".py",))),
+        code=key(__version__, tree_digest(pkg, (".py",)), *method_library_versions()),
         library=key(pkg.joinpath("data", "species.json").read_bytes()),
         templates=key(tree_digest(files("dossier.templates")), docs),
         methods=key(canonical_json(DEFAULT.record())),
         packets=packets, meeting=meeting)
+
+
+#: General-purpose libraries whose numbers assessments may use; an upgrade of one
+#: must not let the cache serve assessments made with the old one.
+METHOD_LIBRARIES = ("thermo", "pgradd", "rdkit", "chemicals")
+
+
+def method_library_versions() -> tuple[str, ...]:
+    """``"name=version"`` of each of :data:`METHOD_LIBRARIES` (metadata only, no import)."""
+    out = []
+    for name in METHOD_LIBRARIES:
+        try:
+            out.append(f"{name}={importlib.metadata.version(name)}")
+        except importlib.metadata.PackageNotFoundError:
+            out.append(f"{name}=not installed")
+    return tuple(out)
 
 
 def case_key(inputs: CaseInputs, settings: BuildSettings) -> str:

@@ -38,7 +38,7 @@ from dossier.casefile.schema import DELIMITER
 from dossier.casefile.validate import validate_header
 from dossier.errors import CaseError, Problem
 from dossier.constants import P_STANDARD
-from dossier.model.case import (Case, Charge, Decomposition, LocalSpecies,
+from dossier.model.case import (ActivityModel, Case, Charge, Decomposition, LocalSpecies,
                                 Measured, Phase, Review, Status, Verdict, Vessel)
 
 #: Largest case file accepted, in bytes.
@@ -279,6 +279,8 @@ def _build(top: dict[str, Any], parts: _Parts, filename: str,
         meeting=top["meeting"],
         pressure=P_STANDARD if top["pressure"] is None else top["pressure"],
         inerts=top["inerts"] or (),
+        activity_model=ActivityModel((top["equilibrium"] or {}).get("activity_model")
+                                     or ActivityModel.IDEAL),
         charge=charge,
         vessel=opt(top["vessel"], Vessel),
         decomposition=decomposition,

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from dossier.model.case import Phase, Status, Verdict
+from dossier.model.case import ActivityModel, EstimateMethod, Phase, Status, Verdict
 
 #: Case-file format versions this code reads.
 SUPPORTED_FORMATS = (1,)
@@ -41,6 +41,7 @@ class FieldSpec:
     example: str = ""            # TOML right-hand side shown in messages
     help: str = ""               # extra words for a sign or range message
     table: "TableSpec | None" = None
+    required_unless: str = ""    # required unless this other key of the table is given
 
 
 @dataclass(frozen=True)
@@ -62,9 +63,10 @@ class TableSpec:
 
 
 def _q(name: str, dimension: str, example: str, *, required: bool = False,
-       sign: str = "any", help: str = "") -> FieldSpec:
+       sign: str = "any", help: str = "", required_unless: str = "") -> FieldSpec:
     return FieldSpec(name, "quantity", required=required, dimension=dimension,
-                     sign=sign, example=f'"{example}"', help=help)
+                     sign=sign, example=f'"{example}"', help=help,
+                     required_unless=required_unless)
 
 
 CHARGE = TableSpec("[charge]", (
@@ -119,15 +121,26 @@ SPECIES = TableSpec("[[species]]", (
     FieldSpec("formula", "text", required=True, example='"C8H9NO2"'),
     FieldSpec("phase", "choice", required=True, choices=tuple(p.value for p in Phase),
               example='"l"'),
-    _q("hf", "energy_per_amount", "-310 kJ/mol", required=True),
-    _q("s", "molar_entropy", "250 J/(mol*K)", required=True),
-    _q("cp", "molar_heat_capacity", "290 J/(mol*K)", required=True, sign="positive"),
-    FieldSpec("source", "text", required=True,
-              example='"estimate by group additivity"'),
+    _q("hf", "energy_per_amount", "-310 kJ/mol", required_unless="estimate"),
+    _q("s", "molar_entropy", "250 J/(mol*K)", required_unless="estimate"),
+    _q("cp", "molar_heat_capacity", "290 J/(mol*K)", sign="positive",
+       required_unless="estimate"),
+    FieldSpec("source", "text", example='"estimate by group additivity"',
+              required_unless="estimate"),
     FieldSpec("uncertainty", "table", table=SPECIES_UNCERTAINTY,
               example='{ hf = "15 kJ/mol" }'),
     FieldSpec("smiles", "text", example='"CC(=O)Nc1ccccc1"'),
     FieldSpec("t_range", "temperature_pair", example='["250 K", "400 K"]'),
+    FieldSpec("estimate", "choice", choices=tuple(m.value for m in EstimateMethod),
+              example='"benson"'),
+))
+
+#: The [[species]] keys that go with given values only: an estimate brings its own.
+SPECIES_ESTIMATED_KEYS = ("uncertainty", "t_range")
+
+EQUILIBRIUM = TableSpec("[equilibrium]", (
+    FieldSpec("activity_model", "choice", choices=tuple(m.value for m in ActivityModel),
+              example='"unifac"'),
 ))
 
 REVIEW = TableSpec("[[review]]", (
@@ -158,6 +171,7 @@ SCHEMA = TableSpec("the header", (
     _q("pressure", "pressure", "5 bar"),
     FieldSpec("inerts", "quantity_map", dimension="amount", sign="non-negative",
               example='{ "N2(g)" = "0.5 mol" }'),
+    FieldSpec("equilibrium", "table", table=EQUILIBRIUM, example="[equilibrium]"),
     FieldSpec("charge", "table", table=CHARGE, example="[charge]"),
     FieldSpec("vessel", "table", table=VESSEL, example="[vessel]"),
     FieldSpec("decomposition", "table", table=DECOMPOSITION, example="[decomposition]"),
@@ -169,4 +183,4 @@ SCHEMA = TableSpec("the header", (
 
 __all__ = ["SUPPORTED_FORMATS", "DELIMITER", "FieldSpec", "TableSpec", "SCHEMA", "CHARGE",
            "VESSEL", "RATE", "DECOMPOSITION", "MEASURED", "SPECIES_UNCERTAINTY", "SPECIES",
-           "REVIEW"]
+           "REVIEW", "EQUILIBRIUM", "SPECIES_ESTIMATED_KEYS"]

@@ -59,9 +59,16 @@ KEY_HELP: dict[str, str] = {
                    "(K, degC, degF), low first.",
     "pressure": "Operating pressure, absolute (bar, kPa, MPa, atm, psi; no gauge "
                 "units). Default 1 bar.",
-    "inerts": "Gases fed with the reactants that take no part in the reaction, as "
-              "\"species(g)\" = amount per mol of the basis species fed (mol). They "
-              "dilute the gas phase in the equilibrium.",
+    "inerts": "Gases and liquids fed with the reactants that take no part in the "
+              "reaction (a diluent gas, a solvent), as \"species(phase)\" = amount per mol "
+              "of the basis species fed (mol). Gases dilute the gas phase and liquids the "
+              "liquid solution in the equilibrium.",
+    # -- [equilibrium] ------------------------------------------------------
+    "equilibrium": "How the equilibrium treats a liquid mixture (optional).",
+    "equilibrium.activity_model": "Activities of the liquid solution: \"ideal\" (mole "
+                                  "fractions; the default), \"unifac\" or "
+                                  "\"unifac-dortmund\" (activity coefficients by group "
+                                  "contribution, where the groups of every liquid are known).",
     # -- [charge] -----------------------------------------------------------
     "charge": "The batch. Needed for every figure at scale: heat released, "
               "entropy, adiabatic rise, MTSR, criticality class, gas.",
@@ -138,10 +145,17 @@ KEY_HELP: dict[str, str] = {
     "species.uncertainty.s": "Uncertainty of s (J/(mol*K)).",
     "species.uncertainty.cp": "Uncertainty of cp (J/(mol*K)).",
     "species.smiles": "Structure as SMILES; lets the dossier look for groups "
-                      "associated with explosive properties.",
+                      "associated with explosive properties, and is what an "
+                      "estimate is made from.",
     "species.t_range": "Temperatures [low, high] between which the data may be "
                        "used; outside it values are marked as extrapolated. Default: "
                        "298.15 K and the window.",
+    "species.estimate": "Estimate hf, s and cp from the structure (smiles): "
+                        "\"benson\" (Benson group additivity, with Joback for what "
+                        "Benson's groups lack) or \"joback\". Without hf, s and cp "
+                        "the estimate is used, with the method's uncertainty; with "
+                        "them, they are used and the estimate is shown beside them as "
+                        "a check. Gas or liquid only.",
     # -- [[review]] ---------------------------------------------------------
     "review": "A reviewer's verdict on this revision (one [[review]] table each), "
               "written after the board meeting.",
@@ -191,7 +205,8 @@ def _what(spec: FieldSpec) -> str:
         "mass_or_amount": "a mass or an amount with a unit, like \"120 kg\" or "
                           "\"3 kmol\"",
         "temperature_pair": "two temperatures with units, like [\"40 degC\", \"80 degC\"]",
-        "quantity_map": "a table of gases, like { \"N2(g)\" = \"0.5 mol\" }",
+        "quantity_map": "a table of species with their phase, like { \"N2(g)\" = "
+                        "\"0.5 mol\" }",
         "table": "a table",
         "tables": "tables",
     }.get(spec.kind, spec.kind)
@@ -200,6 +215,8 @@ def _what(spec: FieldSpec) -> str:
 def _need(spec: FieldSpec, in_table: str | None) -> str:
     if spec.required:
         return "Required" + (f" when {in_table} is given" if in_table else "") + "."
+    if spec.required_unless:
+        return f"Required unless '{spec.required_unless}' is given."
     return "Optional."
 
 

@@ -14,7 +14,8 @@ import difflib
 import re
 from typing import Any, Callable
 
-from dossier.casefile.schema import SCHEMA, SUPPORTED_FORMATS, FieldSpec, TableSpec
+from dossier.casefile.schema import (SCHEMA, SPECIES, SPECIES_ESTIMATED_KEYS, SUPPORTED_FORMATS,
+                                     FieldSpec, TableSpec)
 from dossier.casefile.units import DIMENSIONS, parse_mass_or_amount, parse_quantity
 from dossier.chem.formula import parse_formula
 from dossier.chem.phases import PHASE_ALIASES
@@ -80,7 +81,8 @@ class _Validator:
             out[name] = self.field(value, fspec, key)
         for fspec in spec.fields:
             if fspec.name not in raw:
-                if fspec.required:
+                if fspec.required or (fspec.required_unless
+                                      and fspec.required_unless not in raw):
                     key = f"{path}.{fspec.name}" if path else fspec.name
                     where = f" in {spec.title}" if path else ""
                     self.problems.append(Problem(
@@ -246,12 +248,56 @@ class _Validator:
                 for i, v in enumerate(value, start=1)]
 
 
+def _species_data(v: _Validator, index: int, sp: dict[str, Any]) -> None:
+    """A [[species]] table that asks for an estimate gives the structure, is a gas or a
+    liquid, and gives either all of hf, s and cp (with their source: those values are
+    used and the estimate is shown beside them) or none of them (the estimate is used,
+    with its own uncertainty and range)."""
+    key = f"species[{index}]"
+    if sp.get("estimate") in (None, _BAD):
+        return  # hf, s, cp and source are then required (schema: required_unless)
+    given = [n for n in ("hf", "s", "cp") if sp.get(n) is not None]
+    if given and len(given) < 3:
+        for name in ("hf", "s", "cp"):
+            if name not in given:
+                v.problem(f"{key}.{name}", "with 'estimate', give all of hf, s and cp (they "
+                                           "are used, and the estimate is shown beside them "
+                                           f"as a check) or none of them; '{name}' is missing")
+    elif given and sp.get("source") is None:
+        v.problem(f"{key}.source", "required key is missing in [[species]]: the values given "
+                                   "beside 'estimate' need their source; add a line like: "
+                                   f"source = {SPECIES.field('source').example}")
+    elif not given:
+        for name in SPECIES_ESTIMATED_KEYS:
+            if sp.get(name) is not None:
+                v.problem(f"{key}.{name}",
+                          f"'{name}' goes with values given in the table; here the estimate "
+                          f"brings its own {_ESTIMATED_WORDS[name]}: remove '{name}', or give "
+                          "hf, s and cp too (they are then used, and the estimate shown "
+                          "beside them)")
+    if sp.get("smiles") is None:
+        v.problem(f"{key}.estimate", "an estimate is made from the structure: add a line "
+                                     f"like: smiles = {SPECIES.field('smiles').example}")
+    if sp.get("phase") not in (None, _BAD, "g", "l"):
+        v.problem(f"{key}.phase",
+                  f"an estimate can be made for a gas (g) or a liquid (l) only, not for "
+                  f"phase '{sp['phase']}': group additivity gives ideal-gas values and the "
+                  "liquid is reached by subtracting an estimated heat of vaporisation; "
+                  "remove 'estimate' and give measured hf, s and cp")
+
+
+#: What an estimate brings in place of each key it replaces.
+_ESTIMATED_WORDS = {"uncertainty": "uncertainties (the method's published accuracy)",
+                    "t_range": "temperature range (the method's)"}
+
+
 def _cross_checks(v: _Validator, top: dict[str, Any]) -> None:
     """Checks that involve more than one key."""
     species = top.get("species")
     if isinstance(species, list):
         seen: dict[str, int] = {}
         for index, sp in enumerate(species, start=1):
+            _species_data(v, index, sp)
             formula = sp.get("formula")
             if isinstance(formula, str) and formula.strip():
                 try:

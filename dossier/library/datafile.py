@@ -18,19 +18,24 @@ from typing import Mapping
 from dossier.chem.phases import PHASES
 from dossier.errors import LibraryError
 from dossier.library.models import Model, Nasa7, Shomate, model_from_dict
-from dossier.library.record import SpeciesRecord
+from dossier.library.phasedata import PhaseData
+from dossier.library.record import MISSING_PROPERTIES, SpeciesRecord
 
-#: Data-file format this code reads.
-DATA_FORMAT = 1
+#: Data-file format this code reads.  Format 2 replaced the "stable_range" column
+#: (often a data-fit range) by phase boundaries ("phase_data") and added the
+#: structure ("smiles") and the properties the source lacks ("missing").
+DATA_FORMAT = 2
 
 # Column order of records in the data file (its header repeats it as "fields").
 FILE_FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase", "model",
-               "source", "note", "uncertainty", "stable_range", "cas", "molar_mass")
+               "source", "note", "uncertainty", "cas", "molar_mass", "smiles", "phase_data",
+               "missing")
 _F = {name: i for i, name in enumerate(FILE_FIELDS)}
 
 #: Column of each field that lookups read from rows not yet turned into records.
 COL_ID, COL_NAME, COL_ALIASES, COL_FORMULA, COL_PHASE, COL_SOURCE, COL_CAS = (
     _F["id"], _F["name"], _F["aliases"], _F["formula"], _F["phase"], _F["source"], _F["cas"])
+_COL_PHASE_DATA = _F["phase_data"]
 
 
 @dataclass(frozen=True)
@@ -77,14 +82,24 @@ def read_species_data(raw: bytes) -> SpeciesData:
                                    f"{len(row)} fields, expected {len(FILE_FIELDS)}")
             if row[COL_ID] in rows:
                 raise LibraryError(f"species data file: duplicate id '{row[COL_ID]}'")
-            if row[COL_SOURCE] not in citations:
-                raise LibraryError(f"species data file: record '{row[COL_ID]}' names "
-                                   f"unknown source '{row[COL_SOURCE]}'")
+            for key in (row[COL_SOURCE], *_phase_source_keys(row[_COL_PHASE_DATA])):
+                if key not in citations:
+                    raise LibraryError(f"species data file: record '{row[COL_ID]}' names "
+                                       f"unknown source '{key}'")
             rows[row[COL_ID]] = row
     except (KeyError, TypeError, AttributeError) as exc:
         raise LibraryError(f"species data file is damaged: missing {exc}") from None
     version = f"{data.get('library_version', '?')}+{hashlib.sha256(raw).hexdigest()[:12]}"
     return SpeciesData(version=version, citations=citations, rows=rows)
+
+
+def _phase_source_keys(pd: dict | None) -> list[str]:
+    if not pd:
+        return []
+    keys = [v for _k, v in pd.get("sources", ())]
+    if pd.get("vapour_pressure"):
+        keys.append(pd["vapour_pressure"]["source"])
+    return keys
 
 
 def _trusted(cls, **values):
@@ -109,15 +124,20 @@ def _model_from_file(m: dict) -> Model:
 def record_from_row(row: list, citations: Mapping[str, str]) -> SpeciesRecord:
     """The record of one data-file row (fast path: the file is already canonical)."""
     (sid, name, aliases, formula, elements, charge, phase, model, source, note,
-     uncertainty, sr, cas, molar_mass) = row
+     uncertainty, cas, molar_mass, smiles, phase_data, missing) = row
     if phase not in PHASES:
         raise ValueError(f"unknown phase {phase!r}")
+    if any(m not in MISSING_PROPERTIES for m in missing):
+        raise ValueError(f"unknown missing property in {missing!r}")
     return _trusted(
         SpeciesRecord, id=sid, name=name, formula=formula,
         elements=tuple(map(tuple, elements)), charge=charge, phase=phase,
         model=_model_from_file(model), source=citations.get(source, source),
         aliases=tuple(aliases), note=note, uncertainty=tuple(map(tuple, uncertainty)),
-        stable_range=tuple(sr) if sr else None, cas=cas, molar_mass=molar_mass)
+        cas=cas, molar_mass=molar_mass, smiles=smiles or None,
+        phase_data=(PhaseData.from_dict(phase_data).with_citations(citations)
+                    if phase_data else None),
+        missing=tuple(missing))
 
 
 __all__ = ["DATA_FORMAT", "FILE_FIELDS", "COL_ID", "COL_NAME", "COL_ALIASES", "COL_FORMULA",

@@ -24,6 +24,16 @@ def _formula_key(composition: Mapping[str, Any], charge: int) -> str:
     return hill_formula({e: n for e, n in composition.items()}, charge)
 
 
+@functools.lru_cache(maxsize=4096)
+def _is_formula(text: str) -> bool:
+    """True when ``text`` reads as a chemical formula (then its letter case is meaningful)."""
+    try:
+        parse_formula(text)
+    except FormulaError:
+        return False
+    return True
+
+
 class Library:
     """An immutable collection of species records with lookup by id, name or formula.
 
@@ -43,7 +53,7 @@ class Library:
         self.sources: dict[str, str] = dict(sources or {})
         self.overridden: frozenset[str] = frozenset(overridden)
         self.local_ids: frozenset[str] = frozenset(local_ids)
-        self._names: dict[str, list[str]] | None = None
+        self._names: dict[str, list[tuple[str, str]]] | None = None
         self._formulas: dict[tuple[str, str], list[str]] | None = None
 
     # -- loading -----------------------------------------------------------
@@ -118,7 +128,7 @@ class Library:
 
     # -- indexes -----------------------------------------------------------
     def _index(self) -> None:
-        names: dict[str, list[str]] = {}
+        names: dict[str, list[tuple[str, str]]] = {}  # lower case -> (id, text as written)
         formulas: dict[tuple[str, str], list[str]] = {}
         for sid, e in self._entries.items():
             if isinstance(e, SpeciesRecord):
@@ -127,15 +137,24 @@ class Library:
             else:  # data-file rows carry the Hill formula already
                 name, aliases, phase, fkey = (e[COL_NAME], e[COL_ALIASES], e[COL_PHASE],
                                               e[COL_FORMULA])
-            for key in {name.lower(), *(a.lower() for a in aliases)}:
-                names.setdefault(key, []).append(sid)
+            for text in dict.fromkeys((name, *aliases)):
+                names.setdefault(text.lower(), []).append((sid, text))
             formulas.setdefault((fkey, phase), []).append(sid)
         self._names, self._formulas = names, formulas
 
-    def _by_name(self, key: str) -> list[SpeciesRecord]:
+    def _by_name(self, label: str) -> list[SpeciesRecord]:
+        """Records whose name or an alias is ``label``: names compare without letter case,
+        but a name or alias that is a formula (``SN``, ``CO``) only as written, so that
+        ``Sn`` is never sulfur nitride and ``Co`` never carbon monoxide."""
         if self._names is None:
             self._index()
-        return [self._materialise(i) for i in self._names.get(key, ())]  # type: ignore[union-attr]
+        ids: list[str] = []
+        for sid, text in self._names.get(label.lower(), ()):  # type: ignore[union-attr]
+            if text != label and _is_formula(text):
+                continue
+            if sid not in ids:
+                ids.append(sid)
+        return [self._materialise(i) for i in ids]
 
     def _by_formula(self, fkey: str, phase: str) -> list[SpeciesRecord]:
         if self._formulas is None:
@@ -150,8 +169,10 @@ class Library:
     def resolve(self, label: str, phase: str | None = None) -> SpeciesRecord:
         """The record for ``label`` in ``phase``.
 
-        ``label`` is an id (``H2O(g)``), a name or alias (case-insensitive,
-        ``water``) or a formula (``H2O``, compared by composition and charge).
+        ``label`` is an id (``H2O(g)``, exactly as written), a name or alias
+        (``water``, in any letter case; an alias that is a formula only as
+        written) or a formula (``H2O``, compared by composition and charge, so
+        ``Sn`` and ``SN`` differ).
         The phase may instead be written in the label (``water(l)``).
         Raises :class:`SpeciesError` when nothing matches (with suggestions)
         or when a formula matches several species (listing them).
@@ -176,7 +197,7 @@ class Library:
                 if rec.phase == phase:
                     return rec
 
-        by_name = self._prefer_local([r for r in self._by_name(label.lower()) if r.phase == phase])
+        by_name = self._prefer_local([r for r in self._by_name(label) if r.phase == phase])
         if len(by_name) == 1:
             return by_name[0]
         if len(by_name) > 1:
@@ -197,7 +218,7 @@ class Library:
 
     def _not_found_message(self, label: str, phase: str, parsed) -> str:
         shown = f"{label}({phase})"
-        other = [r for r in self._by_name(label.lower()) if r.phase != phase]
+        other = [r for r in self._by_name(label) if r.phase != phase]
         if parsed is not None:
             fkey = _formula_key(parsed.composition, parsed.charge)
             for ph in PHASES:

@@ -1,4 +1,4 @@
-"""The species record: one substance in one phase, its thermo model and provenance."""
+"""The species record: one substance in one phase, its thermo model, phase boundaries and provenance."""
 from __future__ import annotations
 
 import hashlib
@@ -10,11 +10,23 @@ from dossier.chem.phases import PHASES
 from dossier.constants import T_REF
 from dossier.errors import LibraryError
 from dossier.library.models import Model, model_from_dict
+from dossier.library.phasedata import PhaseData
+
+#: Properties a record may lack in its source (listed in ``SpeciesRecord.missing``).
+MISSING_PROPERTIES: tuple[str, ...] = ("cp",)
 
 
 @dataclass(frozen=True)
 class SpeciesRecord:
-    """One substance in one phase, with its thermo model and provenance."""
+    """One substance in one phase, with its thermo model and provenance.
+
+    ``model.t_min``..``model.t_max`` is the *data range* of the model (where
+    its fit holds); whether the phase is the stable one at a temperature
+    comes only from ``phase_data`` (melting and boiling points, vapour
+    pressure).  ``missing`` lists properties the source does not give (so far
+    only "cp": the model then holds Cp at 0 and ``uncertainty`` carries a
+    bound on it).
+    """
 
     id: str
     name: str
@@ -27,10 +39,11 @@ class SpeciesRecord:
     aliases: tuple[str, ...] = ()
     note: str = ""
     uncertainty: tuple[tuple[str, float], ...] = ()
-    stable_range: tuple[float, float] | None = None
     cas: str | None = None
     molar_mass: float = 0.0
     smiles: str | None = None  # structure, where the source or the case gives one
+    phase_data: PhaseData | None = None
+    missing: tuple[str, ...] = ()
 
     def __post_init__(self):
         if self.phase not in PHASES:
@@ -40,9 +53,11 @@ class SpeciesRecord:
         object.__setattr__(self, "aliases", tuple(self.aliases))
         object.__setattr__(self, "uncertainty",
                            tuple((str(k), float(v)) for k, v in self.uncertainty))
-        if self.stable_range is not None:
-            lo, hi = self.stable_range
-            object.__setattr__(self, "stable_range", (float(lo), float(hi)))
+        object.__setattr__(self, "missing", tuple(self.missing))
+        unknown = [m for m in self.missing if m not in MISSING_PROPERTIES]
+        if unknown:
+            raise LibraryError(f"species '{self.id}': unknown missing propert"
+                               f"{'y' if len(unknown) == 1 else 'ies'} {', '.join(unknown)}")
 
     @property
     def hf298(self) -> float:
@@ -76,16 +91,17 @@ class SpeciesRecord:
             "source": self.source,
             "note": self.note,
             "uncertainty": [[k, v] for k, v in self.uncertainty],
-            "stable_range": list(self.stable_range) if self.stable_range else None,
             "cas": self.cas,
             "molar_mass": self.molar_mass,
             **({"smiles": self.smiles} if self.smiles else {}),
+            **({"phase_data": self.phase_data.to_dict()} if self.phase_data else {}),
+            **({"missing": list(self.missing)} if self.missing else {}),
         }
 
     @classmethod
     def from_dict(cls, d: Mapping[str, Any]) -> "SpeciesRecord":
         try:
-            sr = d.get("stable_range")
+            pd = d.get("phase_data")
             return cls(
                 id=d["id"],
                 name=d["name"],
@@ -98,10 +114,11 @@ class SpeciesRecord:
                 source=d["source"],
                 note=d.get("note", ""),
                 uncertainty=tuple((k, v) for k, v in d.get("uncertainty", ())),
-                stable_range=tuple(sr) if sr else None,
                 cas=d.get("cas"),
                 molar_mass=float(d.get("molar_mass", 0.0)),
                 smiles=d.get("smiles") or None,
+                phase_data=PhaseData.from_dict(pd) if pd else None,
+                missing=tuple(d.get("missing", ())),
             )
         except (KeyError, TypeError, ValueError) as exc:
             raise LibraryError(f"species record {d.get('id', '?')!r} is incomplete: {exc}") from None
@@ -112,4 +129,4 @@ class SpeciesRecord:
         return hashlib.sha256(text.encode("utf-8")).hexdigest()
 
 
-__all__ = ["SpeciesRecord"]
+__all__ = ["MISSING_PROPERTIES", "SpeciesRecord"]

@@ -37,9 +37,13 @@ class SpeciesUse:
     formula: str
     phase: str
     model: str  # nasa7 | shomate | constant-cp
-    t_min_K: float
-    t_max_K: float
-    stable_range_K: tuple[float, float] | None
+    t_min_K: float  # the data range of the model (where its fit holds) ...
+    t_max_K: float  # ... which says nothing about phase stability
+    #: Where the phase written is the stable one at the case pressure, from the record's
+    #: phase boundaries (None ends: no limit; () stable nowhere at this pressure);
+    #: None when no boundary is known.
+    stable_phase_K: tuple[float | None, ...] | None
+    stable_phase: str  # the same in words, with how each boundary was found
     hf298_kJ_mol: float
     s298_J_molK: float
     cp298_J_molK: float
@@ -47,6 +51,7 @@ class SpeciesUse:
     source: str
     note: str
     uncertainty: tuple[tuple[str, float], ...]
+    missing: tuple[str, ...]  # properties the record's source does not give (e.g. "cp")
     local: bool  # from the case's own [[species]] table
     overrides_library: bool  # a case-local record that replaces a library record
     digest: str
@@ -68,6 +73,16 @@ class ProfileRow:
 
 
 @dataclass(frozen=True)
+class SolutionState:
+    """The liquid solution at equilibrium at one temperature: mole fraction and
+    activity coefficient of each member (in the order of ``solution_members``)."""
+
+    T_K: float
+    x: tuple[float, ...]
+    gamma: tuple[float, ...]
+
+
+@dataclass(frozen=True)
 class Thermodynamics:
     reaction: str
     reversible: bool
@@ -84,6 +99,14 @@ class Thermodynamics:
     equilibrium_note: str
     basis: str
     favourable: str  # "everywhere" | "nowhere" | "partly" in the window
+    # -- the liquid solution (empty when the reaction has no liquid mixture) --
+    activity_model: str = "ideal"  # asked for by the case: ideal | unifac | unifac-dortmund
+    solution_model: str = ""  # used: "" (no liquid solution) | ideal | unifac | unifac-dortmund
+    solution_model_text: str = ""  # the model used, in words
+    solution_members: tuple[str, ...] = ()  # the reaction's liquids, then the liquid inerts
+    solution_groups: tuple[tuple[str, str, str], ...] = ()  # (member, groups, origin)
+    solution_note: str = ""
+    solution_states: tuple[SolutionState, ...] = ()  # at the low and high ends of the window
 
     @property
     def crossovers_in_window(self) -> tuple[Crossover, ...]:
@@ -197,7 +220,8 @@ class Assessment:
                               "dG_kJ_mol": t.dG298_kJ_mol},
             "favourable_in_window": t.favourable,
             "equilibrium": {"mode": t.equilibrium_mode, "note": t.equilibrium_note,
-                            "basis": t.basis},
+                            "basis": t.basis, "activity_model": t.activity_model,
+                            "liquid_solution": _solution_dict(t)},
             "warnings": list(self.warnings),
             "profile": [asdict(r) for r in t.profile],
             "species": [_clean(asdict(s)) for s in self.species],
@@ -246,6 +270,23 @@ class Assessment:
         return _clean(out)
 
 
+def _solution_dict(t: Thermodynamics) -> dict[str, Any] | None:
+    """The liquid solution of the equilibrium, or None when there is none."""
+    if not t.solution_model:
+        return None
+    members = t.solution_members
+    return {
+        "model": t.solution_model,
+        "model_text": t.solution_model_text,
+        "members": list(members),
+        "groups": [{"species": m, "groups": g, "origin": o} for m, g, o in t.solution_groups],
+        "note": t.solution_note,
+        "at_window_ends": [{"T_K": s.T_K, "x": dict(zip(members, s.x)),
+                            "gamma": dict(zip(members, s.gamma))}
+                           for s in t.solution_states],
+    }
+
+
 def _clean(value):
     """Tuples to lists, non-finite floats to None (JSON has no NaN)."""
     if isinstance(value, dict):
@@ -261,5 +302,5 @@ def _clean(value):
     return value
 
 
-__all__ = ["Crossover", "SpeciesUse", "ProfileRow", "Thermodynamics", "ScaleFigures", "Safety",
-           "EnergeticScreen", "Assessment"]
+__all__ = ["Crossover", "SpeciesUse", "ProfileRow", "SolutionState", "Thermodynamics",
+           "ScaleFigures", "Safety", "EnergeticScreen", "Assessment"]

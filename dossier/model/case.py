@@ -47,6 +47,21 @@ class Verdict(enum.StrEnum):
     DECLINED = "declined"
 
 
+class ActivityModel(enum.StrEnum):
+    """How the activities of a liquid solution are computed (``[equilibrium]``)."""
+
+    IDEAL = "ideal"                        # activity = mole fraction
+    UNIFAC = "unifac"                      # original UNIFAC
+    UNIFAC_DORTMUND = "unifac-dortmund"    # modified UNIFAC (Dortmund)
+
+
+class EstimateMethod(enum.StrEnum):
+    """Group-additivity method a ``[[species]]`` table may ask its data from."""
+
+    BENSON = "benson"                      # Benson groups, Joback where they lack a value
+    JOBACK = "joback"                      # Joback groups only
+
+
 class Phase(enum.StrEnum):
     """Phase of a case-local species (``cr`` is a crystalline solid)."""
 
@@ -110,18 +125,27 @@ class Measured:
 
 @dataclass(frozen=True)
 class LocalSpecies:
-    """Thermochemical data for a species the library does not hold."""
+    """Thermochemical data for a species the library does not hold: given (``hf``,
+    ``s``, ``cp`` and ``source``) or to be estimated from ``smiles`` by the method
+    ``estimate`` names (then ``hf``, ``s``, ``cp`` are None and ``source`` optional)."""
 
     name: str
     formula: str
     phase: Phase
-    hf: float                               # J/mol, standard enthalpy of formation, 298.15 K
-    s: float                                # J/(mol K), standard molar entropy, 298.15 K
-    cp: float                               # J/(mol K), taken as constant
-    source: str                             # provenance: required
+    hf: float | None                        # J/mol, standard enthalpy of formation, 298.15 K
+    s: float | None                         # J/(mol K), standard molar entropy, 298.15 K
+    cp: float | None                        # J/(mol K), taken as constant
+    source: str | None                      # provenance: required unless estimated
     uncertainty: tuple[tuple[str, float], ...] = ()  # ("hf", J/mol), ("s", ...), ("cp", ...)
     smiles: str | None = None
     t_range: tuple[float, float] | None = None  # K, where the data may be used
+    estimate: str | None = None             # "benson" or "joback": estimate from smiles
+
+    @property
+    def estimated(self) -> bool:
+        """True when the data come from the estimate (the table gives no hf, s, cp);
+        with them given as well, they are used and the estimate is only a check."""
+        return self.estimate is not None and self.hf is None
 
 
 @dataclass(frozen=True)
@@ -152,6 +176,7 @@ class Case:
     meeting: datetime.date | None = None    # the board meeting this case goes to
     pressure: float = P_STANDARD             # Pa, absolute (default: p° = 1 bar)
     inerts: tuple[tuple[str, float], ...] = ()  # (label with phase, mol per mol of basis)
+    activity_model: ActivityModel = ActivityModel.IDEAL  # of the liquid solution
     charge: Charge | None = None
     vessel: Vessel | None = None
     decomposition: Decomposition | None = None

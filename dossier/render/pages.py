@@ -37,6 +37,7 @@ from dossier.chem.phases import PHASE_NAMES
 from dossier.constants import P_STANDARD, R, T_REF, ZERO_CELSIUS
 from dossier.engine import energetics, safety
 from dossier.engine.decomposition import WATER_CHOICE
+from dossier.engine.estimate import BENSON_SOURCE, JOBACK_SOURCE, LIQUID_SOURCE
 from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.model.findings import SEVERITIES
 from dossier.render.chemistry import formula_html, key_html, reaction_html
@@ -149,6 +150,9 @@ def method_sources(settings: MethodSettings = DEFAULT) -> tuple[tuple[str, str],
         ("Explosophore groups", energetics.GROUPS_SOURCE),
         ("Maximum decomposition energy: products", WATER_CHOICE),
         ("Standard-state thermodynamics", rules.THERMO_SOURCE),
+        ("Estimates from a structure: Benson groups", BENSON_SOURCE),
+        ("Estimates from a structure: Joback groups", JOBACK_SOURCE),
+        ("Estimated liquids", LIQUID_SOURCE),
     )
 
 
@@ -173,6 +177,8 @@ SETTING_LABELS: dict[str, str] = {
     "favourable_points": "points on which “favourable in the window” is judged",
     "equilibrium_model": "equilibrium model",
     "equilibrium_limited_below": "equilibrium-limited below this conversion",
+    "activity_scan_points": "activity model: points along the extent scanned for a split",
+    "unifac_range_K": "UNIFAC: temperatures of the fitted data (K)",
     "enthalpy_mismatch_fraction": "measured and computed ΔrH differ: more than this fraction",
     "enthalpy_mismatch_kJ_mol": "… or more than (kJ/mol)",
     "energetic_species_J_per_g": "energetic species from a maximum decomposition energy of (J/g)",
@@ -189,6 +195,20 @@ SETTING_LABELS: dict[str, str] = {
     "un_onset_K": "UN Appendix 6: onset limit (K)",
     "un_oxygen_balance_pct": "UN Appendix 6: oxygen balance limit (%)",
     "decomposition_products": "decomposition products (name, library label, phase)",
+    "normal_boiling_pressure_Pa": "pressure of the normal boiling point (Pa)",
+    "trouton_entropy_J_molK": "Trouton entropy of vaporisation, where no vapour-pressure curve is known (J/(mol·K))",
+    "vapour_pressure_extrapolation": "vapour-pressure curves followed past their range by this fraction",
+    "estimate_benson_uncertainty": "Benson estimate: standard uncertainty (J/mol; J/(mol·K))",
+    "estimate_benson_enthalpy_only": "Benson corrections that change only ΔfH°",
+    "estimate_joback_errors": "Joback estimate: published mean absolute errors and deviations (SI units)",
+    "estimate_joback_cp_relative": "Joback estimate: relative uncertainty of Cp°",
+    "estimate_joback_min_ring": "Joback estimate: smallest ring accepted (atoms)",
+    "estimate_joback_excluded": "Joback estimate: structures refused (measured far off)",
+    "estimate_joback_range_K": "Joback estimate: temperature range of its Cp° (K)",
+    "estimate_liquid_cp_relative": "estimated liquid: relative uncertainty of Cp° (range)",
+    "estimate_liquid_max_reduced_T": "estimated liquid: highest reduced temperature accepted",
+    "estimate_max_heavy_atoms": "estimates: most heavy atoms in a structure",
+    "estimate_disagreement_u": "given and estimated values disagree beyond this many standard uncertainties",
 }
 
 

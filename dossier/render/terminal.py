@@ -41,6 +41,21 @@ def _thermo_lines(t: Thermodynamics) -> list[str]:
                f"of reaction; X_eq = equilibrium conversion of {t.basis}"
                + (" (all or nothing: " + t.equilibrium_note + ")" if t.equilibrium_mode == "all-or-nothing" else "")
                + ". * extrapolated, < requested with --at.")
+    out.extend(_solution_lines(t))
+    return out
+
+
+def _solution_lines(t: Thermodynamics) -> list[str]:
+    """The liquid solution of the equilibrium: its model, groups and state at the ends."""
+    if not t.solution_model:
+        return [f"liquids    {t.solution_note}"] if t.solution_note else []
+    out = [f"liquids    one solution: {t.solution_model_text}", f"           {t.solution_note}"]
+    for member, groups, origin in t.solution_groups:
+        out.append(f"           {member}: {groups} ({origin})")
+    for st in t.solution_states:
+        parts = ", ".join(f"{m} x {x:.4f} γ {g:.4f}"
+                          for m, x, g in zip(t.solution_members, st.x, st.gamma))
+        out.append(f"           at {_T(st.T_K)}: {parts}")
     return out
 
 

@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING, Sequence
 from dossier.constants import ZERO_CELSIUS
 from dossier.render.maths import DerivationView
 from dossier.render.numbers import num, words
+from dossier.render.species_text import DATA_RANGE_MEANING, phase_lines
 
 if TYPE_CHECKING:  # pragma: no cover
     from dossier.library.record import SpeciesRecord
@@ -62,6 +63,15 @@ class SpeciesView:
     local_to: str | None  # case slug when the record is case-local data
     figure: "Figure"
     used_by: tuple[tuple[str, str, str], ...]  # (case slug, case id, key as written)
+
+    @property
+    def phase_lines(self) -> list[tuple[str, str]]:
+        """The record's phase boundaries and stable phase at 1 bar, as labelled lines."""
+        return phase_lines(self.record)
+
+    @property
+    def data_range_meaning(self) -> str:
+        return DATA_RANGE_MEANING
 
 
 @dataclass(frozen=True)

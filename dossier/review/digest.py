@@ -176,12 +176,16 @@ def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview
 def integrity_of(source: CaseSource, evaluation: Evaluation) -> IntegrityRecord:
     """The integrity record of the case in ``source`` as ``evaluation`` assessed it:
     the case file's bytes without its ``[[review]]`` tables, exactly the species
-    records the assessment used, the library and tool versions and the method
-    settings it ran with."""
+    records the assessment used, the library and tool versions, the method
+    settings it ran with and the versions of the general-purpose libraries whose
+    numbers it used (activity coefficients, estimates, structures)."""
     a = evaluation.assessment
+    settings = evaluation.settings.record()
+    if evaluation.method_libraries:  # only cases that used them carry them
+        settings["method_libraries"] = [list(p) for p in evaluation.method_libraries]
     return case_digest(without_review_tables(source.data),
                        [r.to_dict() for r in evaluation.records],
-                       a.library_version, a.tool_version, evaluation.settings.record())
+                       a.library_version, a.tool_version, settings)
 
 
 def digest_for_case(case_path: str | Path, library: Library | None = None,

@@ -60,6 +60,13 @@ HEAVY_PACKAGES = {
     "nh3": "about 3 ms, but only ever used with markdown, so loaded with it",
     "tqdm": "about 40 ms; only for a progress bar on a terminal",
     "watchfiles": "about 30 ms and a native extension; only for `dossier serve`",
+    "thermo": "about 125 ms (thermo.unifac, cumulative); only for a case that asks for "
+              "UNIFAC activity coefficients or a group-contribution estimate",
+    "pgradd": "about 880 ms (GroupAdd.Library 145 ms + ThermoChem 735 ms, which pulls in "
+              "scipy and matplotlib) and 340 ms to load its Benson groups; only for a "
+              "[[species]] table that asks for a Benson estimate",
+    "chemicals": "120-180 ms per submodule (vapor_pressure, acentric, heat_capacity); "
+                 "only for the liquid step of a group-contribution estimate",
 }
 # Standard-library modules that may be imported inside a function.  Most cost
 # about 1 ms and go at the top; the exceptions are listed with their reason.

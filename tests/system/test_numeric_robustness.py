@@ -75,8 +75,7 @@ def test_boiling_point_crossover_is_found_and_the_phases_are_warned(assessments)
     crossings = [c.T for c in a.thermo.crossovers_in_window]
     assert len(crossings) == 1 and 365 < crossings[0] < 380
     assert a.thermo.favourable == "partly"
-    assert any("H2O(l): at 1 bar this phase is the stable one only between" in w
-               for w in a.warnings)
+    assert any(w.startswith("H2O(l): at 1 bar it boils at 372.7") for w in a.warnings)
 
 
 def test_cold_combustion_ln_k_beyond_float_range_stays_finite(assessments):
@@ -91,7 +90,7 @@ def test_cold_combustion_ln_k_beyond_float_range_stays_finite(assessments):
 def test_hot_window_beyond_the_data_says_extrapolated(assessments):
     a = assessments["combustion-hot"]
     assert any(r.extrapolated for r in a.thermo.profile)
-    assert any("the window 3000.00-8000.00 K extends beyond them, so values there are "
+    assert any("the window 3000.00-8000.00 K extends beyond it, so values there are "
                "extrapolated" in w for w in a.warnings)
 
 

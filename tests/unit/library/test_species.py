@@ -333,9 +333,9 @@ def test_crc_liquid_record_reproduces_the_table():
     assert rec.s298 == pytest.approx(float(row["S0l"]), abs=1e-12)
     assert rec.model.cp(298.15) == pytest.approx(float(row["Cpl"]), abs=1e-12)
     # ethanol melts at 159 K and boils at 351.4 K (CRC Handbook, physical constants
-    # of organic compounds; from memory): the stable liquid range
-    assert rec.stable_range[0] == pytest.approx(159.0, abs=1.0)
-    assert rec.stable_range[1] == pytest.approx(351.4, abs=0.5)
+    # of organic compounds; from memory): its phase boundaries
+    assert rec.phase_data.t_melt == pytest.approx(159.0, abs=1.0)
+    assert rec.phase_data.t_boil == pytest.approx(351.4, abs=0.5)
 
 
 def test_aqueous_ions_follow_the_crc_table_and_the_proton_convention():
