@@ -6,7 +6,8 @@ import subprocess
 import sys
 
 HERE = os.path.dirname(os.path.abspath(__file__))
-SCRIPTS = ["thermo_speed.py", "library_load.py", "evaluate_time.py", "build_bench.py"]
+SCRIPTS = ["thermo_speed.py", "library_load.py", "evaluate_time.py", "build_bench.py",
+           "fuzz_cases.py"]
 
 
 def main() -> int:

@@ -59,9 +59,15 @@ class BatchResult:
     product_records: tuple[SpeciesRecord, ...]  # decomposition products of the screening
 
 
-def entropy_reading(s_sys: float, s_surr: float) -> str:
-    """The sign of the universe's entropy change, said in words."""
+def entropy_reading(s_sys: float, s_surr: float, measured: bool = False) -> str:
+    """The sign of the universe's entropy change, said in words.  With a measured
+    reaction enthalpy the surroundings' entropy comes from it (the heat actually
+    released), so the verdict is that of ΔH_measured − TΔS° rather than of ΔG°."""
     s_univ = s_sys + s_surr
+    same = ("ΔH_measured − TΔS° < 0" if measured else "ΔG° < 0",
+            "ΔH_measured − TΔS° > 0" if measured else "ΔG° > 0")
+    tail = ("; the surroundings' share is the measured heat of reaction over T, the "
+            "system's the computed ΔrS°" if measured else "")
     if s_sys < 0 < s_surr:
         how = ("the surroundings gain more entropy from the heat released than the system "
                "loses" if s_univ > 0 else
@@ -77,11 +83,12 @@ def entropy_reading(s_sys: float, s_surr: float) -> str:
         how = "system and surroundings both lose entropy"
     if s_univ > 0:
         return (f"positive: {how}, so the reaction runs spontaneously at standard state at the "
-                "process temperature (the same verdict as ΔG° < 0)")
+                f"process temperature (the same verdict as {same[0]}){tail}")
     if s_univ < 0:
         return (f"negative: {how}, so the reaction does not run spontaneously at standard state "
-                "at the process temperature (the same verdict as ΔG° > 0)")
-    return "zero: the reaction is at equilibrium at standard state (ΔG° = 0)"
+                f"at the process temperature (the same verdict as {same[1]}){tail}")
+    zero = "ΔH_measured − TΔS° = 0" if measured else "ΔG° = 0"
+    return f"zero: the reaction is at equilibrium at standard state ({zero}){tail}"
 
 
 def scale_figures(case: Case, reaction: Reaction, resolution: Resolution,
@@ -110,7 +117,9 @@ def scale_figures(case: Case, reaction: Reaction, resolution: Resolution,
     heat_J = -dH_used * n_rxn
     gas_per_rxn = sum(float(nu) for nu, term in reaction.signed() if term.phase == "g")
     s_sys = n_rxn * dS_comp
-    s_surr = -n_rxn * dH_comp / T_p
+    # The heat the surroundings receive is the heat released, so their entropy change
+    # uses the same enthalpy as the heat per batch (the measured one when given).
+    s_surr = -n_rxn * dH_used / T_p
     return ScaleFigures(
         basis=basis.key, basis_mol=n_basis, reaction_mol=n_rxn,
         enthalpy_used_kJ_mol=dH_used / 1e3, enthalpy_origin=origin,
@@ -122,7 +131,7 @@ def scale_figures(case: Case, reaction: Reaction, resolution: Resolution,
         T_process_K=T_p,
         entropy_system_kJ_per_K=s_sys / 1e3, entropy_surroundings_kJ_per_K=s_surr / 1e3,
         entropy_universe_kJ_per_K=(s_sys + s_surr) / 1e3,
-        entropy_reading=entropy_reading(s_sys, s_surr),
+        entropy_reading=entropy_reading(s_sys, s_surr, measured=meas is not None),
         gas_mol=gas_per_rxn * n_rxn if gas_per_rxn > 0 else 0.0)
 
 

@@ -220,7 +220,8 @@ def exotherm_severity(subj: RuleSubject) -> Iterator[Finding]:
     yield Finding("exotherm-severity", sev,
                   f"Adiabatic temperature rise {s.adiabatic_rise_K:.1f} K: severity "
                   f"{s.severity} on the three-level scale (below {b1:g} K {low}, {b1:g}–{b2:g} K "
-                  f"{medium}, above {b2:g} K {high}).", SEVERITY_SHORT)
+                  f"{medium}, above {b2:g} K {high}).",
+                  subj.settings.source_of("severity_bands_K") or SEVERITY_SHORT)
 
 
 def criticality(subj: RuleSubject) -> Iterator[Finding]:
@@ -242,7 +243,9 @@ def probability(subj: RuleSubject) -> Iterator[Finding]:
     yield Finding("runaway-probability", sev,
                   f"TMRad at the MTSR is {s.tmrad_at_mtsr_h:.1f} h: probability "
                   f"{s.probability} (above {b2:g} h {low}, {b1:g}–{b2:g} h {medium}, below "
-                  f"{b1:g} h {high}).", PROBABILITY_SHORT)
+                  f"{b1:g} h {high}).",
+                  (subj.settings.source_of("probability_bands_h") or PROBABILITY_SHORT)
+                  + "; TMRad by Townsend and Tou (1980), zero-order approximation")
 
 
 def cooling(subj: RuleSubject) -> Iterator[Finding]:
@@ -283,9 +286,12 @@ def mismatch(subj: RuleSubject) -> Iterator[Finding]:
     diff = abs(m - c)
     rel, absolute = subj.settings.enthalpy_mismatch_fraction, subj.settings.enthalpy_mismatch_kJ_mol
     if diff > absolute or diff > rel * abs(m):
+        # a measured value of (nearly) zero has no meaningful relative difference
+        share = f"{diff / abs(m):.0%}" if diff <= 10 * abs(m) else \
+            "over ten times the measured value"
         yield Finding("enthalpy-mismatch", "warning",
                       f"Measured reaction enthalpy {m:.1f} kJ/mol differs from the computed "
-                      f"{c:.1f} kJ/mol by {diff:.1f} kJ/mol ({diff / abs(m):.0%}; threshold "
+                      f"{c:.1f} kJ/mol by {diff:.1f} kJ/mol ({share}; threshold "
                       f"{rel:.0%} or {absolute:.0f} kJ/mol); the measured value is "
                       "used for the safety figures. Check the species data and the "
                       "measurement (side reactions, phase changes, dilution heat).",
@@ -329,6 +335,115 @@ def energetic(subj: RuleSubject) -> Iterator[Finding]:
                       "oxygen balance; maximum decomposition energy by linear programming")
 
 
+MTT_SOURCE = ("Cooling-failure scenario: MTSR = T_p + X_acc·ΔT_ad compared with the maximum "
+              "technical temperature (Stoessel, Thermal Safety of Chemical Processes, Wiley-VCH "
+              "2008; from memory)")
+
+
+def mtsr_above_mtt(subj: RuleSubject) -> Iterator[Finding]:
+    """The MTSR at or above the MTT, whether or not TD24 is known."""
+    s = subj.safety
+    if s is None or s.mtsr_K is None or s.mtt_K is None or s.mtsr_K < s.mtt_K:
+        return
+    over = s.mtsr_K - s.mtt_K
+    if s.td24_K is None:
+        then = ("TD24 is not known, so whether the decomposition is triggered as well cannot "
+                "be said: measure it (DSC or adiabatic calorimetry)")
+    elif s.mtsr_K >= s.td24_K:
+        then = f"the MTSR is also at or above TD24 {kelvin_celsius(s.td24_K)}"
+    else:
+        then = f"the MTSR stays below TD24 {kelvin_celsius(s.td24_K)}"
+    yield Finding("mtsr-above-mtt", subj.settings.limit_finding("mtsr-above-mtt"),
+                  f"After a cooling failure the reaction alone takes the mass to the MTSR "
+                  f"{kelvin_celsius(s.mtsr_K)}, {over:.1f} K above the MTT "
+                  f"{kelvin_celsius(s.mtt_K)}: the mass boils if the MTT is its boiling point "
+                  "(the condenser or vent must take the vapour at the rate it is made), or the "
+                  f"vessel's temperature or pressure limit is passed (loss of containment); "
+                  f"{then}.", MTT_SOURCE)
+
+
+def process_outside_window(subj: RuleSubject) -> Iterator[Finding]:
+    """The process temperature of [charge] outside the window the case assesses."""
+    ch = subj.case.charge
+    lo, hi = subj.case.window
+    if ch is None or lo <= ch.process_temperature <= hi:
+        return
+    yield Finding("process-outside-window", subj.settings.limit_finding("process-outside-window"),
+                  f"The process temperature {kelvin_celsius(ch.process_temperature)} lies outside "
+                  f"the window {kelvin_celsius(lo)} to {kelvin_celsius(hi)}: the profile, the "
+                  "crossovers and the equilibrium findings do not cover the temperature the "
+                  "process runs at. Widen the window to include it.",
+                  "Consistency of the case file")
+
+
+VAPOUR_SOURCE = ("Pressure at the MTSR: evolved gas by the ideal-gas law (closed vessel, no "
+                 "venting) plus the vapour of the liquids, bounded by the highest pure-liquid "
+                 "vapour pressure (Raoult's law for an ideal solution), each from its boiling "
+                 "point at the case pressure by the Clausius–Clapeyron equation with Trouton's "
+                 "rule for the enthalpy of vaporisation; pressure scale and the rule taking the "
+                 "higher of the two severities: our choice")
+
+
+def liquid_vapour_pressures(subj: RuleSubject, T: float) -> list[tuple[str, float]]:
+    """(species, vapour pressure at ``T`` in Pa) for each liquid with a known boiling
+    point at the case pressure, by Clausius–Clapeyron with ΔvapH = ΔvapS_Trouton·T_b."""
+    out = []
+    p_case = subj.case.pressure
+    for u in subj.species:
+        if u.phase != "l" or not u.stable_phase_K or u.stable_phase_K[-1] is None:
+            continue
+        t_b = float(u.stable_phase_K[-1])
+        dh_vap = subj.settings.trouton_entropy_J_molK * t_b
+        out.append((u.key, p_case * math.exp(dh_vap / R * (1.0 / t_b - 1.0 / T))))
+    return out
+
+
+def _level(bands: tuple[tuple[str, float, float], ...], x: float) -> str:
+    for level, lo, hi in bands:
+        if lo <= x < hi:
+            return level
+    return bands[-1][0]
+
+
+def pressure_severity(subj: RuleSubject) -> Iterator[Finding]:
+    """Severity on the pressure at the MTSR (gas and vapour) against the design pressure,
+    when it is above the lowest level; the severity that counts is the higher one."""
+    s = subj.safety
+    if s is None or s.mtsr_K is None or s.design_pressure_bar is None:
+        return
+    vapours = liquid_vapour_pressures(subj, s.mtsr_K)
+    p_vap = max((p for _k, p in vapours), default=0.0)
+    p_gas = (s.pressure_at_mtsr_bar * 1e5 if s.pressure_at_mtsr_bar is not None
+             else subj.case.pressure)
+    total = p_gas + p_vap
+    bands = subj.settings.pressure_severity_bands
+    level = _level(bands, total / (s.design_pressure_bar * 1e5))
+    levels = [b[0] for b in subj.settings.severity_bands_K]
+    if level == bands[0][0]:
+        return
+    thermal = s.severity or levels[0]
+    counts = max(level, thermal, key=lambda lv: levels.index(lv) if lv in levels else 0)
+    if s.pressure_at_mtsr_bar is not None:
+        gas = f"gas {s.pressure_at_mtsr_bar:.2f} bar with the evolved gas"
+    elif s.scale is not None and s.scale.gas_mol <= 0:
+        gas = f"the initial {subj.case.pressure / 1e5:g} bar; the reaction makes no gas"
+    else:
+        gas = f"the initial {subj.case.pressure / 1e5:g} bar; the evolved gas not assessed"
+    vap = ", no liquid with a known boiling point"
+    if vapours:
+        top = max(vapours, key=lambda v: v[1])[0]
+        t_b = next(float(u.stable_phase_K[-1]) for u in subj.species if u.key == top)
+        vap = f", vapour up to {p_vap / 1e5:.2f} bar ({top}"
+        vap += (f", which boils at {kelvin_celsius(t_b)} at the case pressure: far above its "
+                "boiling point the estimate is rough)" if s.mtsr_K > t_b else ")")
+    yield Finding("pressure-severity", subj.settings.severity_finding(counts),
+                  f"At the MTSR {kelvin_celsius(s.mtsr_K)} the closed gas space reaches about "
+                  f"{total / 1e5:.2f} bar ({gas}{vap}) against a design pressure of "
+                  f"{s.design_pressure_bar:.2f} bar: severity {level} on pressure, {thermal} on "
+                  f"ΔT_ad; the severity that counts is {counts}. Relief and vent must be sized "
+                  "for it.", VAPOUR_SOURCE)
+
+
 Rule = tuple[str, Callable[[RuleSubject], Iterable[Finding]]]
 
 #: Every rule, in the order it runs: (stable name, function).
@@ -342,6 +457,9 @@ RULES: tuple[Rule, ...] = (
     ("estimated-data", estimated_data),
     ("exotherm-severity", exotherm_severity),
     ("criticality-class", criticality),
+    ("mtsr-above-mtt", mtsr_above_mtt),
+    ("pressure-severity", pressure_severity),
+    ("process-outside-window", process_outside_window),
     ("runaway-probability", probability),
     ("cooling-shortfall", cooling),
     ("gas-and-pressure", gas),

@@ -73,7 +73,7 @@ def assess_inputs(inputs: CaseInputs, library: Library) -> AssessedCase | CaseFa
     path = inputs.source.name
     try:
         case = parse_source(inputs.source)
-        evaluation = evaluate(case, library)
+        evaluation = evaluate(case, library, settings=inputs.settings())  # the board's policy
     except DossierError as err:
         return located_failure(path, err)
     except Exception as exc:  # a defect in dossier, not in the case: isolate it too

@@ -23,7 +23,7 @@ from dossier.build.assessing import CaseFailure
 from dossier.build.cache import key
 from dossier.build.layout import UsedBy
 from dossier.build.pickles import dumps
-from dossier.engine.settings import DEFAULT
+from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.library.record import SpeciesRecord
 from dossier.review.digest import canonical_json
 from dossier.review.inputs import CaseInputs
@@ -71,15 +71,17 @@ def has_package(name: str) -> bool:
         return False
 
 
-def build_settings(packets: bool = True, meeting: str | None = None) -> BuildSettings:
-    """Reads the package's sources, data and templates (fast: no heavy imports)."""
+def build_settings(packets: bool = True, meeting: str | None = None,
+                   methods: MethodSettings = DEFAULT) -> BuildSettings:
+    """Reads the package's sources, data and templates (fast: no heavy imports);
+    ``methods`` are the settings in force (the board's policy, if any)."""
     pkg = files("dossier")
     docs = tree_digest(files("dossier.docs")) if has_package("dossier.docs") else ""
     return BuildSettings(
         code=key(__version__, tree_digest(pkg, (".py",)), *method_library_versions()),
         library=key(pkg.joinpath("data", "species.json").read_bytes()),
         templates=key(tree_digest(files("dossier.templates")), docs),
-        methods=key(canonical_json(DEFAULT.record())),
+        methods=key(canonical_json(methods.record())),
         packets=packets, meeting=meeting)
 
 

@@ -18,6 +18,7 @@ from dossier.build.assessing import NOT_COMPUTED, AssessedCase, CaseFailure, int
 from dossier.build.layout import SiteLayout, UsedBy, site_layout
 from dossier.constants import T_REF
 from dossier.engine.derivation import derive
+from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.library.record import SpeciesRecord
 from dossier.render import pages as site
 from dossier.render.figures import case_figures, formula_svg, species_figure
@@ -198,11 +199,12 @@ def failed_rows(failures: Sequence[CaseFailure]) -> tuple[FailedCase, ...]:
 
 
 def site_pages(views: Sequence[CaseView], failed: Sequence[CaseFailure],
-               meetings: Sequence[MeetingView], packets: bool) -> dict[str, bytes]:
-    """The register, the methods page and the guide."""
+               meetings: Sequence[MeetingView], packets: bool,
+               methods: MethodSettings = DEFAULT) -> dict[str, bytes]:
+    """The register, the methods page (of the policy in force) and the guide."""
     return {"index.html": site.render_register(views, failed_rows(failed), meetings,
                                                packets).encode("utf-8"),
-            "methods.html": site.render_methods_page().encode("utf-8"),
+            "methods.html": site.render_methods_page(methods).encode("utf-8"),
             **render_guide_pages()}
 
 

@@ -46,7 +46,8 @@ from dossier.build.units import (UnitResult, cached_unit, store, unit_assess, un
 from dossier.build.writer import check_target, is_within, read_manifest, write_site
 from dossier.errors import CaseError, DossierError, Problem
 from dossier.render.views import CaseView, MeetingView
-from dossier.review.inputs import CaseInputs, read_case_inputs
+from dossier.engine.settings import DEFAULT, MethodSettings
+from dossier.review.inputs import CaseInputs, FileRead, policy_settings, read_case_inputs, read_policy
 
 #: The kinds of unit a build makes or takes from the cache.  Views (a case's
 #: figures and derivation) are kept apart inside case units and are counted
@@ -124,6 +125,8 @@ class Build:
     start: float
     made: dict[str, int] = field(default_factory=dict)
     taken: dict[str, int] = field(default_factory=dict)
+    policy: FileRead | None = None  # the board's policy file, read once for every case
+    methods: MethodSettings = DEFAULT  # the settings it gives
 
     @property
     def root(self) -> str:
@@ -189,7 +192,8 @@ def case_files(cases_dir: Path) -> list[Path]:
     if not cases_dir.is_dir():
         raise CaseError(Problem("the cases folder does not exist (give the folder that holds "
                                 "the case files, e.g. 'cases')", str(cases_dir)))
-    return sorted(p for p in cases_dir.glob("*.md") if p.is_file())
+    # a named pipe, socket or device named *.md is listed, to be refused by name
+    return sorted(p for p in cases_dir.glob("*.md") if p.exists() and not p.is_dir())
 
 
 def default_cache_dir(out_dir: Path) -> Path:
@@ -198,7 +202,14 @@ def default_cache_dir(out_dir: Path) -> Path:
 
 
 def check_cache_dir(cache_dir: Path, target: Path, cases_dir: Path) -> Path:
-    c = Path(cache_dir).expanduser().resolve()
+    given = Path(cache_dir).expanduser()
+    c = given.resolve()
+    for link in (given, given / "blobs", given / "entries"):
+        if link.is_symlink():
+            what = "the cache folder" if link == given else f"its folder '{link.name}'"
+            raise DossierError(Problem(f"{what} is a symbolic link to {link.resolve()}; a "
+                                       "build does not write the cache through a link: "
+                                       "give a real folder", str(cache_dir), key="--cache"))
     if is_within(c, target) or is_within(target, c):
         raise DossierError(Problem("the cache folder must not be inside the output folder "
                                    "(or hold it): a build replaces the output folder as a whole",
@@ -223,13 +234,15 @@ def site_intact(target: Path, manifest: Mapping) -> bool:
 # --------------------------------------------------------------------------
 # Phases 1-3: read, plan keys, unchanged?
 
-def read_cases(paths: Sequence[Path]) -> list[CaseInputs | CaseFailure]:
-    """Every case file and the files beside it, read once; a case file that cannot
-    be read is a failure naming it."""
+def read_cases(paths: Sequence[Path], policy: FileRead | None = None
+               ) -> list[CaseInputs | CaseFailure]:
+    """Every case file and the files beside it, read once (``policy``: the cases
+    folder's policy file, read once for all); a case file that cannot be read is a
+    failure naming it."""
     read: list[CaseInputs | CaseFailure] = []
     for p in paths:
         try:
-            read.append(read_case_inputs(p))
+            read.append(read_case_inputs(p, policy))
         except DossierError as err:
             read.append(located_failure(p, err))
     return read
@@ -391,7 +404,7 @@ def render_register(b: Build, views: Sequence[CaseView], meetings: Sequence[Meet
         b.count("register", taken=1)
         return u
     b.count("register", made=1)
-    return store(b.root, "register", k, {**site_pages(views, failed, meetings, b.packets),
+    return store(b.root, "register", k, {**site_pages(views, failed, meetings, b.packets, b.methods),
                                          **base_files(b.packets)})
 
 
@@ -426,9 +439,11 @@ def start_build(cases_dir: Path, out_dir: Path, strict: bool, meeting: str | Non
     paths = case_files(cases_dir)
     target = check_target(out_dir, protected=[cases_dir])
     cache = Cache(check_cache_dir(cache_dir or default_cache_dir(out_dir), target, cases_dir))
+    policy = read_policy(cases_dir)
+    methods = policy_settings(policy)  # a policy that cannot be used refuses the build
     return Build(cases_dir, out_dir, paths, target, strict, packets, meeting, cache,
-                 not cache.root.exists(), build_settings(packets, meeting),
-                 Runner(jobs, progress, packets), start)
+                 not cache.root.exists(), build_settings(packets, meeting, methods),
+                 Runner(jobs, progress, packets), start, policy=policy, methods=methods)
 
 
 def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
@@ -447,7 +462,7 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
     """
     b = start_build(Path(cases_dir), Path(out_dir), strict, meeting, jobs, packets, cache_dir,
                     progress)
-    read = read_cases(b.paths)
+    read = read_cases(b.paths, b.policy)
     keys = plan_keys(read, b.settings)
     whole = build_key(b.settings, strict, b.paths, keys)
     unchanged = unchanged_since(b, whole)

@@ -27,6 +27,7 @@ import errno
 import os
 import re
 import stat
+import sys
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -43,6 +44,10 @@ from dossier.model.case import (ActivityModel, Case, Charge, Decomposition, Loca
 
 #: Largest case file accepted, in bytes.
 MAX_FILE_BYTES = 5 * 1024 * 1024
+#: Most parts in one dotted key (``a.b.c`` has three).  The schema's deepest key
+#: has three; the TOML parser's work grows with the square of a key's parts
+#: (20,000 parts took 3.6 s and 1.5 GB), so longer keys are refused before parsing.
+MAX_KEY_PARTS = 32
 
 _BOM = "\ufeff"
 
@@ -84,14 +89,41 @@ def _read_up_to(fd: int, limit: int) -> bytes:
     return b"".join(chunks)
 
 
+_KINDS = {stat.S_IFIFO: "a named pipe (FIFO)", stat.S_IFSOCK: "a socket",
+          stat.S_IFCHR: "a character device", stat.S_IFBLK: "a block device",
+          stat.S_IFDIR: "a folder"}
+
+
+def not_regular(mode: int) -> str | None:
+    """Why a file of this ``st_mode`` is not read ("it is a named pipe (FIFO), not a
+    regular file"); None for a regular file."""
+    kind = stat.S_IFMT(mode)
+    if kind == stat.S_IFREG:
+        return None
+    return f"it is {_KINDS.get(kind, 'a special file')}, not a regular file"
+
+
+def outside_link(path: Path) -> Path | None:
+    """Where ``path`` leads when it is a symbolic link (or passes through one) to a
+    place outside the folder that holds it; None otherwise."""
+    real = path.resolve()
+    return None if real.is_relative_to(path.parent.resolve()) else real
+
+
 def read_source(path: str | Path) -> CaseSource:
     """Read the case file at ``path`` once; the only function that opens a case file.
 
     The path is shown in messages as given.  Raises :class:`CaseError` for a
     file that cannot be read, is not a regular file (a folder, a pipe, a
-    device) or is larger than :data:`MAX_FILE_BYTES`.
+    device), is a symbolic link out of its folder, or is larger than
+    :data:`MAX_FILE_BYTES`.
     """
     filename = str(path)
+    real = outside_link(Path(path))
+    if real is not None:
+        raise CaseError(Problem(
+            f"the case file is a symbolic link to {real}, outside its folder "
+            f"{Path(path).parent.resolve()}; copy the file into the folder instead", filename))
     try:
         # non-blocking, so that a named pipe is refused rather than waited on
         fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
@@ -102,8 +134,8 @@ def read_source(path: str | Path) -> CaseSource:
         if kind == stat.S_IFDIR:
             raise IsADirectoryError(errno.EISDIR, os.strerror(errno.EISDIR))
         if kind != stat.S_IFREG:
-            raise CaseError(Problem("cannot read the case file: not a regular file",
-                                    filename))
+            raise CaseError(Problem("cannot read the case file: "
+                                    + not_regular(os.fstat(fd).st_mode), filename))
         data = _read_up_to(fd, MAX_FILE_BYTES + 1)
     except OSError as err:
         raise _cannot_read(filename, err) from None
@@ -201,7 +233,40 @@ _UNQUOTED_QUANTITY_RE = re.compile(
 _DATE_LIKE_RE = re.compile(r"=\s*\d{4}-\d{1,2}-\d{1,2}")
 
 
+# a key (bare, "basic" or 'literal' parts) of more than MAX_KEY_PARTS parts, where
+# a key can start: a line's start, after '[' (tables) or after '{' or ',' (inline
+# tables); possessive quantifiers keep the search linear in the header's length
+_KEY_PART = r"""(?:[A-Za-z0-9_-]++|"(?:[^"\\\n]|\\.)*+"|'[^'\n]*+')"""
+_DEEP_KEY_RE = re.compile(
+    r"(?:^|(?<=[\[{,]))[ \t]*+(?:" + _KEY_PART + r"[ \t]*+\.[ \t]*+)"
+    + "{" + str(MAX_KEY_PARTS) + ",}+" + _KEY_PART + r"[ \t]*+[=\]]", re.MULTILINE)
+_LONG_DIGITS_RE = re.compile(r"\d[\d_]*+")
+
+
+def _refuse_costly_header(parts: _Parts, filename: str) -> None:
+    """Refuse, before parsing, a dotted key too long to parse in bounded work."""
+    deep = _DEEP_KEY_RE.search(parts.header)
+    if deep:
+        line = parts.header_line + parts.header.count("\n", 0, deep.start())
+        raise CaseError(Problem(
+            f"a dotted key here has more than {MAX_KEY_PARTS} parts; the keys of a case "
+            "file have at most three (like decomposition.rate.temperature)", filename, line))
+
+
+def _too_many_digits(parts: _Parts, filename: str) -> CaseError:
+    """The problem for a whole number longer than Python converts (its ValueError)."""
+    limit = sys.get_int_max_str_digits()
+    line = parts.header_line
+    for run in _LONG_DIGITS_RE.finditer(parts.header):
+        if len(run.group().replace("_", "")) > limit:
+            line += parts.header.count("\n", 0, run.start())
+            break
+    return CaseError(Problem(f"a number here has more than {limit:,} digits; write "
+                             "the value it stands for with fewer digits", filename, line))
+
+
 def _parse_toml(parts: _Parts, filename: str) -> dict[str, Any]:
+    _refuse_costly_header(parts, filename)
     try:
         return tomllib.loads(parts.header)
     except tomllib.TOMLDecodeError as err:
@@ -229,6 +294,8 @@ def _parse_toml(parts: _Parts, filename: str) -> dict[str, Any]:
     except RecursionError:
         raise CaseError(Problem("the header nests arrays or tables too deeply",
                                 filename, parts.header_line)) from None
+    except ValueError:  # a whole number longer than Python's conversion limit
+        raise _too_many_digits(parts, filename) from None
 
 
 # --------------------------------------------------------------------------
@@ -328,5 +395,24 @@ def parse_case_text(text: str, filename: str) -> Case:
     return _build(top, parts, filename, lines)
 
 
-__all__ = ["MAX_FILE_BYTES", "CaseSource", "read_source", "parse_source", "header_of",
-           "load_case", "read_header", "parse_case_text"]
+def signed_content(source: CaseSource) -> dict[str, Any]:
+    """What a signature on this case covers: the header's values exactly as the loader
+    reads them, without the verdicts recorded in ``[[review]]`` tables, and the
+    narrative with its line endings as ``\n``.
+
+    So a byte-order mark, CRLF or CR line endings, comments, blank lines, the order
+    of keys and tables, and recorded verdicts do not change it; any change to a value
+    the assessment reads, or to the narrative, does (see docs/signatures.md).
+    """
+    text = _text_of(source)
+    if text.startswith(_BOM):
+        text = text[1:]
+    parts = _split(text, source.name)
+    header = _parse_toml(parts, source.name)
+    header.pop("review", None)
+    narrative = parts.narrative.replace("\r\n", "\n").replace("\r", "\n")
+    return {"header": header, "narrative": narrative}
+
+
+__all__ = ["MAX_FILE_BYTES", "MAX_KEY_PARTS", "not_regular", "outside_link", "CaseSource", "read_source", "parse_source", "header_of",
+           "load_case", "read_header", "parse_case_text", "signed_content"]

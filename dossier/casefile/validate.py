@@ -26,6 +26,12 @@ _LABEL_RE = re.compile(r"^\S.*\((?:%s)\)$" % "|".join(PHASE_ALIASES))
 
 _BAD = object()  # a value that failed validation; its problem is recorded
 
+#: Highest temperature (K) a window may reach: an input limit that keeps the work
+#: of an assessment bounded.  The library's species data end at 6,000 K or below
+#: (checked in tests/unit/casefile/test_window_limit.py); a process window lies
+#: far below either.
+MAX_WINDOW_K = 10_000.0
+
 
 def _show(value: Any) -> str:
     if isinstance(value, bool):
@@ -207,6 +213,11 @@ class _Validator:
             return self.problem(key, f"expected the low temperature first and below the "
                                      f"high one, like {spec.example}; got "
                                      f"{_show(value[0])} to {_show(value[1])}")
+        if high > MAX_WINDOW_K:
+            return self.problem(key, f"the high temperature {_show(value[1])} is above "
+                                     f"{MAX_WINDOW_K:,.0f} K, the highest a window may "
+                                     "reach; the library's species data end at 6,000 K "
+                                     "or below")
         return (low, high)
 
     def read_quantity_map(self, value, spec, key):
@@ -338,4 +349,4 @@ def validate_header(raw: dict[str, Any], lines: dict[str, int],
     return top
 
 
-__all__ = ["validate_header"]
+__all__ = ["MAX_WINDOW_K", "validate_header"]

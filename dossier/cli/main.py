@@ -27,6 +27,7 @@ from dossier.errors import EXIT_BAD_INPUT, DossierError, Problem, UnitError
 from dossier.library.lookup import Library
 from dossier.render.species_text import describe
 from dossier.render.terminal import render_assessment
+from dossier.review.inputs import policy_settings, read_policy
 from dossier.review.revisions import archived_revisions
 
 #: Commands that live in other modules of this package, loaded on first use:
@@ -86,7 +87,9 @@ def evaluate(case_file: Path, at: tuple[str, ...], as_json: bool) -> None:
         except UnitError as err:
             raise UnitError([Problem(p.message, key="--at") for p in err.problems]) from None
     case = load_case(case_file)
-    assessment = assess_case(case, Library.default(), extra_temperatures=tuple(extra))
+    settings = policy_settings(read_policy(case_file.parent))  # the board's policy, if any
+    assessment = assess_case(case, Library.default(), extra_temperatures=tuple(extra),
+                             settings=settings)
     if as_json:
         click.echo(json.dumps(assessment.to_dict(), indent=2, ensure_ascii=False))
     else:
@@ -105,7 +108,8 @@ def check(paths: tuple[Path, ...]) -> None:
     bad = 0
     for f in files:
         try:
-            assess_case(load_case(f), Library.default())
+            assess_case(load_case(f), Library.default(),
+                        settings=policy_settings(read_policy(f.parent)))
         except DossierError as err:
             bad += 1
             for problem in err.problems:

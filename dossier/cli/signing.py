@@ -24,11 +24,13 @@ from dossier.errors import (EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, DossierE
                             SignatureError)
 from dossier.review import digest as integrity
 from dossier.review.digest import short_digest
+from dossier.review.inputs import policy_settings, read_policy
+from dossier.review.inputs import read_optional
 from dossier.review.keys import (TRUSTED_KEYS_FILE, TrustedKey, generate_keypair,
-                                 load_private_key, load_trusted_keys, public_key_text,
+                                 load_private_key, parse_trusted_keys, public_key_text,
                                  trusted_keys_path, write_private_key_in)
 from dossier.review.signatures import (SIGNATURES_SUFFIX, VERDICTS, ReviewStatus, append_signature,
-                                       load_signatures, make_review, signatures_path,
+                                       make_review, parse_signatures, signatures_path,
                                        verify_reviews)
 
 _DATE_RE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
@@ -148,15 +150,30 @@ class _CasesSeen:
             case = self.case(case_file)
             source = self._sources[case_file][0]
             self._records[case_file] = integrity.integrity_of(
-                source, evaluate(case, Library.default()))
+                source, evaluate(case, Library.default(),
+                                 settings=policy_settings(read_policy(case_file.parent))))
         return self._records[case_file]
+
+
+def _read_or_refuse(path: Path, what: str) -> bytes:
+    """The bytes of a regular file (a named pipe, device or socket is refused
+    rather than waited on); a :class:`SignatureError` naming it otherwise."""
+    read = read_optional(path, what)
+    if read.data is None:
+        why = (read.problem or f"cannot read the {what}: no such file")
+        raise SignatureError(Problem(why.removeprefix(f"{path}: "), str(path)))
+    return read.data
+
+
+def _trusted_keys(path: Path) -> tuple[TrustedKey, ...]:
+    return parse_trusted_keys(_read_or_refuse(path, "trusted keys"), str(path))
 
 
 def _trusted_entry(cases_dir: Path, key: str) -> TrustedKey | None:
     path = trusted_keys_path(cases_dir)
     if not path.exists():
         return None
-    return next((k for k in load_trusted_keys(path) if k.key == key), None)
+    return next((k for k in _trusted_keys(path) if k.key == key), None)
 
 
 @click.command()
@@ -171,7 +188,7 @@ def verify(cases_dir: Path) -> None:
         raise SignatureError(Problem("no such folder", str(cases_dir)))
     keys_file = trusted_keys_path(cases_dir)
     if keys_file.exists():
-        trusted = load_trusted_keys(keys_file)
+        trusted = _trusted_keys(keys_file)
     else:
         trusted = ()
         click.echo(f"warning: {keys_file} does not exist; no signature can be valid.", err=True)
@@ -191,7 +208,7 @@ def verify(cases_dir: Path) -> None:
         case_id = sig_file.name[:-len(SIGNATURES_SUFFIX)]
         case_file = sig_file.with_name(case_id + ".md")
         try:
-            reviews = load_signatures(sig_file)
+            reviews = parse_signatures(_read_or_refuse(sig_file, "signatures"), str(sig_file))
             if not case_file.exists():
                 raise SignatureError(Problem(f"there is no case file {case_file} for these "
                                              "signatures", str(sig_file)))

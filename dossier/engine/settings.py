@@ -6,15 +6,20 @@ needs to the methods; the integrity record of every case digests
 :meth:`MethodSettings.record`, so editing any value here changes every
 signature's digest (a verdict is never shown as valid on other thresholds).
 
-Provenance of each value is given beside it; "from memory" means recalled
-from the published method and not checked against the published text.
+Provenance of each value is given beside it, and its full citation in
+:data:`DEFAULT_SOURCES` (printed on the methods page); "from memory" means
+recalled from the published method and not checked against the published text.
+A review board may change the values of :data:`POLICY_KEYS` by its policy file
+(:mod:`dossier.review.policy`), naming its own source for each: the result is
+another ``MethodSettings`` whose ``policy`` and ``policy_sources`` say so.
 """
 from __future__ import annotations
 
 import dataclasses
 import math
 from dataclasses import dataclass
-from typing import Any
+from types import MappingProxyType
+from typing import Any, Mapping
 
 from dossier.constants import P_STANDARD, R, T_REF, ZERO_CELSIUS
 
@@ -93,6 +98,22 @@ class MethodSettings:
         ("low", "information"), ("medium", "warning"), ("high", "critical"))
     criticality_findings: tuple[tuple[int, str], ...] = (
         (1, "information"), (2, "caution"), (3, "warning"), (4, "critical"), (5, "critical"))
+    #: Finding severity of the rules that compare a figure with a limit of the plant or
+    #: of the assessment: the MTSR at or above the MTT, and the process temperature
+    #: outside the window.  Our choice: reaching the MTT is what makes class 3 or worse
+    #: a "warning" in criticality_findings; a window that misses the process temperature
+    #: leaves its figures unchecked, a "caution".
+    limit_findings: tuple[tuple[str, str], ...] = (
+        ("mtsr-above-mtt", "warning"), ("process-outside-window", "caution"))
+    #: Severity on the pressure at the MTSR, on the ratio of the highest pressure in the
+    #: closed gas space (evolved gas plus the vapour of the liquids) to the design
+    #: pressure.  Our choice, no published scale: at or above the design pressure the
+    #: vessel is over-pressured ("high"); from 90 % of it, inside the usual margin
+    #: between operating pressure and relief set pressure ("medium"; a 10 % margin is
+    #: common practice, no source).  The severity of the case is the higher of this one
+    #: and the severity on ΔT_ad.
+    pressure_severity_bands: Bands = (("low", -math.inf, 0.9), ("medium", 0.9, 1.0),
+                                      ("high", 1.0, math.inf))
 
     # -- phase boundaries at the case pressure (engine/phases.py) -------------
     #: Pressure the normal melting and boiling points refer to: 1 atm (definition).
@@ -180,6 +201,13 @@ class MethodSettings:
     #: choice: about 95 % coverage if the estimate's errors were normal.
     estimate_disagreement_u: float = 2.0
 
+    # -- the policy in force ----------------------------------------------------
+    #: Name of the policy these values are: the published defaults, or the board's
+    #: policy file that changed some of them (review/policy.py).
+    policy: str = "published defaults (dossier.engine.settings)"
+    #: (setting, the board's source) for every value the board's policy changed.
+    policy_sources: tuple[tuple[str, str], ...] = ()
+
     # -- lookups ---------------------------------------------------------------
     def severity_finding(self, level: str) -> str:
         return dict(self.severity_findings)[level]
@@ -189,6 +217,17 @@ class MethodSettings:
 
     def criticality_finding(self, klass: int) -> str:
         return dict(self.criticality_findings)[klass]
+
+    def limit_finding(self, rule: str) -> str:
+        return dict(self.limit_findings)[rule]
+
+    def source_of(self, name: str) -> str:
+        """The citation of the value of setting ``name`` in force: the board's source
+        where its policy changed it, else the published default's."""
+        board = dict(self.policy_sources)
+        if name in board:
+            return f"{self.policy}: {board[name]}"
+        return DEFAULT_SOURCES.get(name, "")
 
     def record(self) -> dict[str, Any]:
         """Every setting as plain JSON values (infinite band limits as null), with the
@@ -212,7 +251,120 @@ def _plain(value: Any) -> Any:
     return value
 
 
+_STOESSEL = ("F. Stoessel, Thermal Safety of Chemical Processes: Risk Assessment and "
+             "Process Design, Wiley-VCH, Weinheim, 2008 (ISBN 978-3-527-31712-7)")
+_STOESSEL_1993 = ("F. Stoessel, 'What is your thermal risk?', Chemical Engineering Progress "
+                  "89 (10), 1993, pp. 68-75")
+_STOESSEL_CLASSES = ("F. Stoessel, 'Planning protection measures against runaway reactions "
+                     "using criticality classes', Process Safety and Environmental Protection "
+                     "87 (2009) 105-112 (also IChemE Symposium Series)")
+_UN_APP6 = ("United Nations, Recommendations on the Transport of Dangerous Goods, Manual of "
+            "Tests and Criteria, Appendix 6 'Screening procedures', section 3 (substances that "
+            "may have explosive properties), e.g. 7th revised edition, New York and Geneva "
+            "2019 (ST/SG/AC.10/11/Rev.7)")
+_UN_CHECKED = ("the criterion's wording checked against its quotation in the New Zealand "
+               "Environmental Risk Management Authority's 'User Guide to Thresholds and "
+               "Classification' (p. 29); the paragraph number from memory")
+_OURS = "our choice, no published source"
+
+#: The citation of every setting's published default: author, title, publisher or
+#: journal, year, and the section where it can be given.  "From memory" marks what
+#: could not be checked against the published text while writing this.
+DEFAULT_SOURCES: Mapping[str, str] = MappingProxyType({
+    "grid_steps_K": f"{_OURS}: round steps, so that the profile reads easily",
+    "grid_min_step_K": f"{_OURS}: the finest step printed",
+    "grid_max_rows": f"{_OURS}: a table that fits a printed page",
+    "crossover_scan_K": f"{_OURS}: the span of the tabulated species data",
+    "favourable_points": f"{_OURS}: finer than the profile grid",
+    "equilibrium_model": "the model as built; described, not a threshold",
+    "activity_scan_points": f"{_OURS}: a split wider than about 3 % of the extent is seen",
+    "unifac_range_K": ("A. Fredenslund, J. Gmehling and P. Rasmussen, Vapor-Liquid Equilibria "
+                       "Using UNIFAC, Elsevier, Amsterdam, 1977: the temperatures of the data "
+                       "the parameters were fitted to, about 275-425 K (from memory)"),
+    "equilibrium_limited_below": (f"{_OURS}: a shortfall of 0.5 % stands clear of the "
+                                  "precision conversions are printed to (0.1 %)"),
+    "enthalpy_mismatch_fraction": f"{_OURS} (common practice for agreement of calorimetry "
+                                  "with tabulated data, no source)",
+    "enthalpy_mismatch_kJ_mol": f"{_OURS} (common practice, no source)",
+    "energetic_species_J_per_g": (f"{_UN_APP6}, paragraph 3.3 (c): an exothermic decomposition "
+                                  f"energy below 500 J/g screens a substance out; {_UN_CHECKED}"),
+    "severity_bands_K": (f"{_STOESSEL}, chapter 3 (assessment of thermal risks), the "
+                         "three-level severity scale on the adiabatic temperature rise: below "
+                         "50 K (and no pressure) low, 50-200 K medium, above 200 K high; first "
+                         f"given in {_STOESSEL_1993}. From memory: the table and page numbers "
+                         "were not checked"),
+    "probability_bands_h": (f"{_STOESSEL}, chapter 3, the three-level probability scale on "
+                            "TMRad at the MTSR: above 24 h low, 8-24 h medium, below 8 h high "
+                            f"(condensed from the six-level scale of {_STOESSEL_1993}). From "
+                            "memory: the table and page numbers were not checked"),
+    "td24_time_s": (f"{_STOESSEL}, chapter 3: TD24, the temperature at which TMRad is 24 h, "
+                    f"is the decomposition level of the criticality classes ({_STOESSEL_CLASSES}); "
+                    "from memory"),
+    "td24_agreement_K": f"{_OURS}: about the spread of TD24 from repeated DSC runs",
+    "gas_normal_T_K": "normal conditions 0 °C and 1 atm (DIN 1343; from memory), common practice",
+    "gas_normal_p_Pa": "normal conditions 0 °C and 1 atm (DIN 1343; from memory), common practice",
+    "severity_findings": f"{_OURS}: each level one step of the findings' scale",
+    "probability_findings": f"{_OURS}: each level one step of the findings' scale",
+    "criticality_findings": (f"{_OURS}, after the measures {_STOESSEL_CLASSES} asks of each "
+                             "class (none for 1; 3 and up need the technical limit or more; "
+                             "from memory)"),
+    "limit_findings": (f"{_OURS}: reaching the MTT is a warning as criticality class 3 is; a "
+                       "window that misses the process temperature is a caution"),
+    "pressure_severity_bands": (f"{_OURS}: at or above the design pressure high, from 90 % of "
+                                "it medium (a 10 % margin below the relief set pressure is "
+                                "common practice, no source); Stoessel's 'low' severity also "
+                                f"asks for no pressure build-up ({_STOESSEL}, chapter 3; from "
+                                "memory)"),
+    "normal_boiling_pressure_Pa": "the definition of the normal boiling point (1 atm)",
+    "trouton_entropy_J_molK": ("F. Trouton, Philosophical Magazine 18 (1884) 54-57: about "
+                               "85-88 J/(mol K) for non-associated liquids (value as in "
+                               "textbooks, e.g. Atkins' Physical Chemistry; from memory)"),
+    "vapour_pressure_extrapolation": f"{_OURS}: the text then says 'extrapolated'",
+    "un_energy_J_per_g": (f"{_UN_APP6}, paragraph 3.3 (c): exothermic decomposition energy "
+                          f"below 500 J/g; {_UN_CHECKED}"),
+    "un_onset_K": (f"{_UN_APP6}, paragraph 3.3 (c): with the onset of exothermic "
+                   f"decomposition below 500 °C; {_UN_CHECKED}"),
+    "un_oxygen_balance_pct": (f"{_UN_APP6}, paragraph 3.3 (b): oxygen balance below -200, "
+                              "OB = -1600 (2x + y/2 - z) / M for CxHyOz; " + _UN_CHECKED),
+    "decomposition_products": (f"{_OURS}: the simple products a runaway makes, water as "
+                               "vapour"),
+    "estimate_benson_uncertainty": ("S. W. Benson, Thermochemical Kinetics, 2nd ed., Wiley, "
+                                    "New York, 1976: the accuracy usually quoted, 1 kcal/mol "
+                                    "and 1 cal/(mol K) (from memory; held by our cross-check "
+                                    "against the CRC Handbook)"),
+    "estimate_benson_enthalpy_only": ("S. W. Benson, Thermochemical Kinetics, 2nd ed., Wiley, "
+                                      "1976: corrections tabulated as enthalpies alone (from "
+                                      "memory)"),
+    "estimate_joback_errors": ("K. G. Joback and R. C. Reid, 'Estimation of pure-component "
+                               "properties from group-contributions', Chemical Engineering "
+                               "Communications 57 (1987) 233-243, as quoted in the "
+                               "documentation of thermo.group_contribution.joback"),
+    "estimate_joback_cp_relative": f"{_OURS}: Joback and Reid give no overall error for Cp",
+    "estimate_joback_min_ring": f"{_OURS}: Joback has no ring-strain terms (our cross-check)",
+    "estimate_joback_excluded": f"{_OURS}: our cross-check against the CRC Handbook",
+    "estimate_joback_range_K": ("Joback and Reid (1987): Cp fitted to 298-1000 K, as quoted in "
+                                "thermo's documentation"),
+    "estimate_liquid_cp_relative": ("B. E. Poling, J. M. Prausnitz and J. P. O'Connell, The "
+                                    "Properties of Gases and Liquids, 5th ed., McGraw-Hill, "
+                                    "2001, as quoted in chemicals' documentation; 0.5 for "
+                                    "hydrogen-bonding liquids our choice"),
+    "estimate_liquid_max_reduced_T": f"{_OURS}: the correlations diverge at the critical point",
+    "estimate_max_heavy_atoms": f"{_OURS}: bounds the symmetry search",
+    "estimate_disagreement_u": f"{_OURS}: about 95 % coverage for normal errors",
+    "policy": "the name of the policy in force",
+    "policy_sources": "the board's source for each value its policy changed",
+})
+
+#: The settings a board's policy file may change: the thresholds and bands of the
+#: findings.  The method settings (grids, estimates, models) are not a board's choice.
+POLICY_KEYS: tuple[str, ...] = (
+    "equilibrium_limited_below", "enthalpy_mismatch_fraction", "enthalpy_mismatch_kJ_mol",
+    "energetic_species_J_per_g", "severity_bands_K", "probability_bands_h",
+    "pressure_severity_bands", "td24_time_s", "td24_agreement_K", "severity_findings",
+    "probability_findings", "criticality_findings", "limit_findings", "un_energy_J_per_g",
+    "un_onset_K", "un_oxygen_balance_pct")
+
 #: The settings every assessment uses unless a caller passes others.
 DEFAULT = MethodSettings()
 
-__all__ = ["MethodSettings", "DEFAULT", "Bands"]
+__all__ = ["MethodSettings", "DEFAULT", "DEFAULT_SOURCES", "POLICY_KEYS", "Bands"]

@@ -17,6 +17,7 @@ All quantities are SI: K, J/mol, J/(mol K).
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Protocol, Sequence
 
@@ -186,6 +187,12 @@ def temperature_grid(t_low: float, t_high: float, extra: Sequence[float] = (),
         if st >= min_step and span / st <= max_points - 2:
             chosen = st
             break
+    if span / chosen > max_points - 2:
+        # wider than the largest step allows: a round step (1, 2, 2.5 or 5 times a
+        # power of ten) that keeps the grid within max_points rows, for any window
+        decade = 10.0 ** math.floor(math.log10(span / (max_points - 2)))
+        chosen = next(decade * m for m in (1.0, 2.0, 2.5, 5.0, 10.0)
+                      if span / (decade * m) <= max_points - 2)
     inner = np.arange(np.ceil(t_low / chosen) * chosen, t_high, chosen)
     pts = np.concatenate([[t_low], inner, [t_high], np.asarray(list(extra), dtype=float)])
     return np.unique(np.round(pts, 9))

@@ -6,7 +6,7 @@ from dataclasses import dataclass
 from typing import Any
 
 #: Names the serialisation; bump it if the manifest ever changes shape.
-INTEGRITY_FORMAT = "dossier-integrity-1"
+INTEGRITY_FORMAT = "dossier-integrity-2"
 
 #: Hex characters shown in the short display form of a digest.
 SHORT_LENGTH = 12
@@ -23,7 +23,7 @@ class IntegrityRecord:
     """The integrity digest of one case and the component digests it is made of."""
 
     digest: str                                   # SHA-256 of the manifest, hex
-    case_file_digest: str                         # SHA-256 of the case file's bytes
+    case_file_digest: str                         # SHA-256 of the case as the loader reads it
     species_digests: tuple[tuple[str, str], ...]  # (record id, SHA-256 of its canonical JSON)
     settings_digest: str                          # SHA-256 of the method settings' canonical JSON
     library_version: str

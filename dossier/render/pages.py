@@ -38,7 +38,7 @@ from dossier.constants import P_STANDARD, R, T_REF, ZERO_CELSIUS
 from dossier.engine import energetics, safety
 from dossier.engine.decomposition import WATER_CHOICE
 from dossier.engine.estimate import BENSON_SOURCE, JOBACK_SOURCE, LIQUID_SOURCE
-from dossier.engine.settings import DEFAULT, MethodSettings
+from dossier.engine.settings import DEFAULT, POLICY_KEYS, MethodSettings
 from dossier.model.findings import SEVERITIES
 from dossier.render.chemistry import formula_html, key_html, reaction_html
 from dossier.render.markdown_html import narrative_html
@@ -138,9 +138,25 @@ def render_species_page(view: SpeciesView) -> str:
                            page_title=f"{view.record.name} ({view.record.phase})")
 
 
+def policy_sources(settings: MethodSettings = DEFAULT) -> tuple[tuple[str, str], ...]:
+    """(threshold with its value in force, its citation): the policy in force, each
+    value a board may change with the board's source or the published default's."""
+    changed = dict(settings.policy_sources)
+    rows = [("Policy in force", settings.policy + (
+        f"; it changes {len(changed)} of the published defaults, each with the board's "
+        "source below" if changed else "; every threshold below is the published default"))]
+    for name in POLICY_KEYS:
+        label = SETTING_LABELS.get(name, name.replace("_", " "))
+        mark = " (the board's value)" if name in changed else ""
+        rows.append((f"{label}: {_setting_value(getattr(settings, name))}{mark}",
+                     settings.source_of(name)))
+    return tuple(rows)
+
+
 def method_sources(settings: MethodSettings = DEFAULT) -> tuple[tuple[str, str], ...]:
-    """(topic, source text) of every threshold table and method, with the bands in use."""
-    return (
+    """(topic, source text) of every threshold table and method, with the bands in use,
+    then the policy in force with the citation of each of its values."""
+    return policy_sources(settings) + (
         ("Severity on the adiabatic temperature rise",
          safety.severity_source(settings.severity_bands_K)),
         ("Probability on TMRad at the MTSR", safety.probability_source(settings.probability_bands_h)),
@@ -180,7 +196,7 @@ SETTING_LABELS: dict[str, str] = {
     "activity_scan_points": "activity model: points along the extent scanned for a split",
     "unifac_range_K": "UNIFAC: temperatures of the fitted data (K)",
     "enthalpy_mismatch_fraction": "measured and computed ΔrH differ: more than this fraction",
-    "enthalpy_mismatch_kJ_mol": "… or more than (kJ/mol)",
+    "enthalpy_mismatch_kJ_mol": "measured and computed ΔrH differ: or by more than (kJ/mol)",
     "energetic_species_J_per_g": "energetic species from a maximum decomposition energy of (J/g)",
     "severity_bands_K": "severity on ΔTad (K)",
     "probability_bands_h": "probability on TMRad at the MTSR (h)",
@@ -191,6 +207,12 @@ SETTING_LABELS: dict[str, str] = {
     "severity_findings": "finding severity per severity level",
     "probability_findings": "finding severity per probability level",
     "criticality_findings": "finding severity per criticality class",
+    "limit_findings": "finding severity when the MTSR reaches the MTT, and when the process "
+                      "temperature is outside the window",
+    "pressure_severity_bands": "severity on the pressure at the MTSR, as a ratio to the "
+                               "design pressure",
+    "policy": "policy in force",
+    "policy_sources": "the board's source of each value its policy changed",
     "un_energy_J_per_g": "UN Appendix 6: decomposition energy limit (J/g)",
     "un_onset_K": "UN Appendix 6: onset limit (K)",
     "un_oxygen_balance_pct": "UN Appendix 6: oxygen balance limit (%)",

@@ -66,7 +66,7 @@ def _history(inputs: CaseInputs, case: Case, assessment: Assessment,
                 problems.append(f"{name}: the file says revision {old.revision}; "
                                 f"its name says {kept.number}")
             revisions.append((kept.number, header_of(kept.source), old.narrative,
-                              assess_case(old, library)))
+                              assess_case(old, library, settings=inputs.settings())))
         except DossierError as err:
             msg = "; ".join(str(p) for p in err.problems)
             problems.append(f"{name}: this kept revision could not be assessed ({msg})")

@@ -7,11 +7,13 @@ of that into one digest, so a signed verdict can later be checked against the
 case as it stands now.  The serialisation is documented in
 ``docs/signatures.md`` and summarised here:
 
-1. ``case``: SHA-256 of the case file's bytes, exactly as stored.
+1. ``case``: SHA-256 of the canonical JSON of the case as the loader reads it
+   (:func:`content_bytes`): the header's values without the ``[[review]]``
+   tables, and the narrative with ``\n`` line endings.
 2. ``species``: for every species record used, SHA-256 of its canonical JSON
    text; the list holds ``[id, digest]`` pairs sorted by id (then digest).
 3. ``settings``: SHA-256 of the canonical JSON text of the method settings.
-4. The *manifest* is the JSON object ``{"format": "dossier-integrity-1",
+4. The *manifest* is the JSON object ``{"format": "dossier-integrity-2",
    "case": ..., "species": [...], "library_version": ..., "tool_version": ...,
    "settings": ...}``; the integrity digest is SHA-256 of its canonical JSON
    text.
@@ -28,18 +30,19 @@ the digest covers exactly what the assessment used.
 """
 from __future__ import annotations
 
+import datetime
 import hashlib
 import json
 import math
-import re
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
 from dossier.assess.evaluate import Evaluation, evaluate
-from dossier.casefile.load import CaseSource, parse_source, read_source
-from dossier.engine.settings import DEFAULT, MethodSettings
+from dossier.casefile.load import CaseSource, parse_source, read_source, signed_content
+from dossier.engine.settings import MethodSettings
 from dossier.errors import LibraryError
 from dossier.library.lookup import Library
+from dossier.review.inputs import policy_settings, read_policy
 from dossier.model.integrity import (INTEGRITY_FORMAT, IntegrityRecord, RecordedReview,
                                      short_digest)
 
@@ -116,37 +119,21 @@ def case_digest(case_bytes: bytes, species_records: Iterable[Mapping[str, Any]],
     )
 
 
-_REVIEW_HEADER = re.compile(rb"^[ \t]*\[\[[ \t]*review[ \t]*\]\][ \t]*(#.*)?$")
-_TABLE_HEADER = re.compile(rb"^[ \t]*\[")
-_FENCE = re.compile(rb"^\+\+\+[ \t]*$")
+def content_bytes(source: CaseSource) -> bytes:
+    """The canonical JSON text (ASCII bytes) of what a signature on the case covers:
+    :func:`dossier.casefile.load.signed_content`, with TOML dates and times written
+    as tagged ISO text so that they never collide with a string of the same text."""
+    return canonical_json(_toml_plain(signed_content(source))).encode("ascii")
 
 
-def without_review_tables(data: bytes) -> bytes:
-    """The case file's bytes with its ``[[review]]`` tables left out.
-
-    A verdict recorded in the case file must not change the digest of what it
-    approved, so the digest covers everything else: every other header line
-    byte for byte, and the whole narrative.  A review table runs from its
-    ``[[review]]`` line to the next table header or the closing ``+++``.
-    """
-    lines = data.splitlines(keepends=True)
-    out: list[bytes] = []
-    fences = 0
-    skipping = False
-    for line in lines:
-        bare = line.rstrip(b"\r\n")
-        if fences == 1 and _FENCE.match(bare):
-            skipping = False
-        if fences == 1 and _REVIEW_HEADER.match(bare):
-            skipping = True
-            continue
-        if skipping and _TABLE_HEADER.match(bare):
-            skipping = False
-        if _FENCE.match(bare) and fences < 2:
-            fences += 1
-        if not skipping:
-            out.append(line)
-    return b"".join(out)
+def _toml_plain(value: Any) -> Any:
+    if isinstance(value, dict):
+        return {k: _toml_plain(v) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_toml_plain(v) for v in value]
+    if isinstance(value, (datetime.datetime, datetime.date, datetime.time)):
+        return {f"${type(value).__name__}": value.isoformat()}
+    return value
 
 
 def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview, ...]:
@@ -183,13 +170,13 @@ def integrity_of(source: CaseSource, evaluation: Evaluation) -> IntegrityRecord:
     settings = evaluation.settings.record()
     if evaluation.method_libraries:  # only cases that used them carry them
         settings["method_libraries"] = [list(p) for p in evaluation.method_libraries]
-    return case_digest(without_review_tables(source.data),
+    return case_digest(content_bytes(source),
                        [r.to_dict() for r in evaluation.records],
                        a.library_version, a.tool_version, settings)
 
 
 def digest_for_case(case_path: str | Path, library: Library | None = None,
-                    settings: MethodSettings = DEFAULT) -> tuple[IntegrityRecord, int, str]:
+                    settings: MethodSettings | None = None) -> tuple[IntegrityRecord, int, str]:
     """(integrity record, revision, case id) of the case file at ``case_path``.
 
     Reads the file once and assesses it (with the shipped library unless one is
@@ -197,10 +184,12 @@ def digest_for_case(case_path: str | Path, library: Library | None = None,
     """
     source = read_source(case_path)
     case = parse_source(source)
+    if settings is None:  # the board's policy of the case's folder, as the build uses
+        settings = policy_settings(read_policy(source.path.parent))
     evaluation = evaluate(case, library or Library.default(), settings=settings)
     return integrity_of(source, evaluation), case.revision, case.id
 
 
-__all__ = ["canonical_json", "sha256_hex", "case_digest", "without_review_tables",
+__all__ = ["canonical_json", "sha256_hex", "case_digest", "content_bytes",
            "check_recorded_reviews", "integrity_of", "digest_for_case", "IntegrityRecord",
            "RecordedReview", "INTEGRITY_FORMAT", "short_digest"]

@@ -1,5 +1,6 @@
 """Every file one case rests on, read once: the case file, its kept earlier
-revisions, its signature file and the board's trusted keys.
+revisions, its signature file, the board's trusted keys and the board's policy
+(``board-policy.toml`` in the cases folder, :mod:`dossier.review.policy`).
 
 The build's cache key, the loader, the integrity digest, the signatures and
 the revision history all use this one :class:`CaseInputs`, so they can never
@@ -9,13 +10,16 @@ files); the signature and key files by :func:`read_optional`.
 """
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
 from pathlib import Path
 
-from dossier.casefile.load import CaseSource, read_source
-from dossier.errors import DossierError
+from dossier.casefile.load import CaseSource, not_regular, read_source
+from dossier.engine.settings import DEFAULT, MethodSettings
+from dossier.errors import CaseError, DossierError, Problem
 from dossier.review.revisions import archived_revisions
 from dossier.review.keys import trusted_keys_path
+from dossier.review.policy import parse_policy, policy_path
 from dossier.review.signatures import signatures_path
 
 
@@ -46,14 +50,22 @@ class CaseInputs:
     revisions: tuple[KeptRevision, ...]
     signatures: FileRead
     trusted_keys: FileRead
+    #: The board's policy file of the cases folder (absent: the published defaults).
+    policy: FileRead | None = None
 
     @property
     def path(self) -> Path:
         return self.source.path
 
+    def settings(self) -> MethodSettings:
+        """The method settings of this case: the defaults with the board's policy."""
+        return policy_settings(self.policy)
+
     def key_parts(self) -> list[bytes | str]:
         """Everything read, for a cache key: names and bytes (or what went wrong)."""
         parts: list[bytes | str] = ["case", str(self.source.path), self.source.data]
+        if self.policy is not None and self.policy.exists:
+            parts += ["policy", _bytes(self.policy)]
         if self.signatures.exists:
             parts += ["signatures", _bytes(self.signatures), "trusted", _bytes(self.trusted_keys)]
         for kept in self.revisions:
@@ -69,19 +81,48 @@ def _bytes(read: FileRead) -> bytes:
 
 
 def read_optional(path: Path, what: str) -> FileRead:
-    """The bytes of ``path`` if it is a regular file; absent is not a problem."""
+    """The bytes of ``path`` if it is a regular file; absent is not a problem.
+
+    Opened without waiting (a named pipe is refused, not waited on) and checked
+    on the open file, so a file swapped for a pipe after a check is refused too.
+    """
     if not path.exists() and not path.is_symlink():
         return FileRead(path)
-    if not path.is_file():
-        return FileRead(path, problem=f"{path}: cannot read the {what}: not a regular file")
     try:
-        return FileRead(path, path.read_bytes())
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
     except OSError as err:
         return FileRead(path, problem=f"{path}: cannot read the {what}: {err.strerror or err}")
+    try:
+        kind = not_regular(os.fstat(fd).st_mode)
+        if kind:
+            return FileRead(path, problem=f"{path}: cannot read the {what}: {kind}")
+        with os.fdopen(os.dup(fd), "rb") as fh:
+            return FileRead(path, fh.read())
+    except OSError as err:
+        return FileRead(path, problem=f"{path}: cannot read the {what}: {err.strerror or err}")
+    finally:
+        os.close(fd)
 
 
-def read_case_inputs(path: str | Path) -> CaseInputs:
-    """Read the case file at ``path`` and every file beside it that it rests on.
+def read_policy(cases_folder: str | Path) -> FileRead:
+    """The board's policy file of ``cases_folder`` (read once per build)."""
+    return read_optional(policy_path(Path(cases_folder)), "board policy")
+
+
+def policy_settings(policy: FileRead | None) -> MethodSettings:
+    """The settings a policy file read gives: the defaults when there is none;
+    a :class:`~dossier.errors.CaseError` naming the file when it cannot be used."""
+    if policy is None or not policy.exists:
+        return DEFAULT
+    if policy.data is None:
+        why = (policy.problem or "cannot read the board policy").removeprefix(f"{policy.path}: ")
+        raise CaseError(Problem(why, str(policy.path)))
+    return parse_policy(policy.path, policy.data)
+
+
+def read_case_inputs(path: str | Path, policy: FileRead | None = None) -> CaseInputs:
+    """Read the case file at ``path`` and every file beside it that it rests on;
+    ``policy`` is the cases folder's policy file when the caller read it already.
 
     Raises the loader's :class:`~dossier.errors.CaseError` when the case file
     itself cannot be read; a kept revision or signature file that cannot be
@@ -98,7 +139,10 @@ def read_case_inputs(path: str | Path) -> CaseInputs:
     sig = read_optional(signatures_path(source.path), "signatures")
     trusted = (read_optional(trusted_keys_path(source.path.parent), "trusted keys")
                if sig.exists else FileRead(trusted_keys_path(source.path.parent)))
-    return CaseInputs(source, tuple(kept), sig, trusted)
+    if policy is None:
+        policy = read_policy(source.path.parent)
+    return CaseInputs(source, tuple(kept), sig, trusted, policy)
 
 
-__all__ = ["FileRead", "KeptRevision", "CaseInputs", "read_optional", "read_case_inputs"]
+__all__ = ["FileRead", "KeptRevision", "CaseInputs", "read_optional", "read_policy",
+           "policy_settings", "read_case_inputs"]

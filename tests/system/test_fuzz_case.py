@@ -17,16 +17,18 @@ from collections import Counter
 from pathlib import Path
 
 import fuzzing
+import mutations
 from fuzzing import bounded
 import pytest
 from hypothesis import HealthCheck, given, settings, strategies as st
 
 from dossier.assess.evaluate import assess_case
 from dossier.casefile.load import MAX_FILE_BYTES, load_case, parse_case_text
+from dossier.engine.settings import DEFAULT
 from dossier.model.case import Case
 from dossier.errors import DossierError
 from dossier.library.lookup import Library
-from paths import FIXTURES
+from paths import CASES, FIXTURES
 
 FIXTURES = FIXTURES
 FULL = (FIXTURES / "cases" / "full.md").read_text(encoding="utf-8")
@@ -343,6 +345,29 @@ def test_hostile_fixture(path, library):
         assert first == expected
 
 
+# ------------------------------------------------- seeded mutations (issue 16)
+
+#: Inputs of the suite's seeded run (the 10,000-input run is bench/fuzz_cases.py).
+SEEDED_INPUTS = 1000
+#: Seconds the seeded run may take in all; it stops there and says how far it got.
+SEEDED_BUDGET = 240.0
+
+
+def test_seeded_mutations_give_no_traceback_and_no_input_over_2_s(library):
+    """Byte flips, line deletions and duplications, value swaps, huge and tiny
+    numbers, unicode, NaN/inf strings, deep nesting, long dotted keys and huge
+    windows (tests/support/mutations.py), seed 16."""
+    texts = mutations.seeds([FIXTURES / "cases", CASES], library)
+    assert len(texts) >= 10  # full.md, minimal.md and the demonstration cases
+    out = mutations.run(SEEDED_INPUTS, 16, texts, library, SEEDED_BUDGET)
+    TRIED["mutations: seeded run"] += out.inputs
+    assert out.tracebacks == []
+    assert out.slow == [], f"inputs over {mutations.SLOW_SECONDS} s: {out.slow}"
+    assert out.inputs == SEEDED_INPUTS, f"budget spent after {out.inputs} inputs"
+    # both outcomes occur: the mutations reach the assessment, and they break files
+    assert out.results > 0 and out.errors > 0
+
+
 # ------------------------------------------------------------------------ atheris
 
 
@@ -371,3 +396,16 @@ def test_atheris_fuzz_parse_case_text():
                       "parse_case_text: atheris data provider")
 
 
+
+
+def test_a_measured_enthalpy_of_zero_is_compared_without_a_percentage(library):
+    """The issue's reproducer: 0 kJ/mol divided by zero in the enthalpy-mismatch rule."""
+    case = load_case(HOSTILE / "measured_enthalpy_zero.md")
+    findings = assess_case(case, library).to_dict()["findings"]
+    (finding,) = [f for f in findings if f["rule"] == "enthalpy-mismatch"]
+    assert finding["text"].startswith("Measured reaction enthalpy 0.0 kJ/mol differs from "
+                                      "the computed ")
+    threshold = (f"{DEFAULT.enthalpy_mismatch_fraction:.0%} or "
+                 f"{DEFAULT.enthalpy_mismatch_kJ_mol:.0f} kJ/mol")
+    assert f"kJ/mol (over ten times the measured value; threshold {threshold})" \
+        in finding["text"]

@@ -8,7 +8,7 @@ from dossier.assess.evaluate import evaluate
 from dossier.casefile.load import parse_case_text
 from dossier.errors import CaseError
 from dossier.library.lookup import Library
-from dossier.review.digest import case_digest, without_review_tables
+from dossier.review.digest import case_digest
 
 LIB = Library.default()
 
@@ -103,7 +103,7 @@ def test_the_digest_covers_the_case_table_that_the_assessment_used():
     case, ev = _evaluate()
     ids = {r.id for r in ev.records}
     assert "water(l)" in ids and "H2O(l)" not in ids  # the library record was not used
-    record = case_digest(without_review_tables(b"x"), [r.to_dict() for r in ev.records],
+    record = case_digest(b"x", [r.to_dict() for r in ev.records],
                          ev.assessment.library_version, ev.assessment.tool_version,
                          ev.settings.record())
     assert {sid for sid, _ in record.species_digests} == ids

@@ -15,7 +15,10 @@ import os
 from pathlib import Path
 
 import pytest
+from fuzzing import bounded
 from paths import TESTS
+
+from dossier.errors import DossierError
 
 HERE = TESTS
 MINIMAL = (HERE / "fixtures" / "cases" / "minimal.md").read_text(encoding="utf-8")
@@ -136,3 +139,72 @@ def test_reserved_and_dot_names_do_not_become_file_names(hostile_build):
     names = {p.stem.lower() for p in out.rglob("*")}
     for reserved in ("con", "nul", "aux", "prn", "com1", "lpt1", ".", ".."):
         assert reserved not in names, reserved
+
+
+# --------------------------------------------------------------------------
+# Files that are not files, and links out of the cases folder (issue 16, part 5)
+
+
+def test_a_case_linked_outside_the_cases_folder_is_refused_by_name(hostile_build):
+    root, _out, report, *_ = hostile_build
+    cases = root / "cases"
+    failed = {Path(f.file).name: f.problems for f in report.failed}
+    assert failed["link-to-outside.md"] == (
+        f"{cases / 'link-to-outside.md'}: the case file is a symbolic link to "
+        f"{(root / 'outside' / 'secret.md').resolve()}, outside its folder "
+        f"{cases.resolve()}; copy the file into the folder instead",)
+    assert "link-to-outside" not in report.built
+
+
+@pytest.fixture()
+def board_with_pipes(tmp_path):
+    """A cases folder with one good case, an alias link to it inside the folder, and
+    named pipes as a case file, a signature file and the trusted keys."""
+    cases = tmp_path / "cases"
+    cases.mkdir()
+    (cases / "burn.md").write_text(MINIMAL, encoding="utf-8")
+    (cases / "alias.md").symlink_to("burn.md")
+    for name in ("pipe.md", "burn.signatures", "trusted-keys.txt"):
+        os.mkfifo(cases / name)
+    return cases
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes are POSIX")
+def test_named_pipes_are_refused_by_name_and_never_waited_on(board_with_pipes, tmp_path):
+    from dossier.build.pipeline import build_site
+
+    cases = board_with_pipes
+    with bounded(60):
+        report = build_site(cases, tmp_path / "site", packets=False, jobs=1,
+                            cache_dir=tmp_path / "cache")
+    # a link inside the cases folder is still a case
+    assert set(report.built) == {"alias", "burn"}
+    (failure,) = report.failed
+    assert failure.problems == (f"{cases / 'pipe.md'}: cannot read the case file: it is a "
+                                "named pipe (FIFO), not a regular file",)
+    page = (tmp_path / "site" / "cases" / "burn.html").read_text(encoding="utf-8")
+    for what in ("signatures", "trusted keys"):
+        assert f"cannot read the {what}: it is a named pipe (FIFO), not a regular file" in page
+
+
+@pytest.mark.parametrize("linked", ["", "blobs", "entries"])
+def test_the_cache_is_not_written_through_a_symbolic_link(tmp_path, linked):
+    from dossier.build.pipeline import build_site
+
+    cases = tmp_path / "cases"
+    cases.mkdir()
+    (cases / "burn.md").write_text(MINIMAL, encoding="utf-8")
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    cache = tmp_path / "cache"
+    if linked:
+        cache.mkdir()
+    (cache / linked if linked else cache).symlink_to(elsewhere, target_is_directory=True)
+    with pytest.raises(DossierError) as info:
+        build_site(cases, tmp_path / "site", packets=False, jobs=1, cache_dir=cache)
+    what = f"its folder '{linked}'" if linked else "the cache folder"
+    assert str(info.value) == (f"{cache}: key '--cache': {what} is a symbolic link to "
+                               f"{elsewhere.resolve()}; a build does not write the cache "
+                               "through a link: give a real folder")
+    assert list(elsewhere.iterdir()) == []
+    assert not (tmp_path / "site").exists()

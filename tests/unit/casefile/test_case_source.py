@@ -34,7 +34,8 @@ def test_a_named_pipe_is_refused_rather_than_waited_on(tmp_path):
     os.mkfifo(pipe)
     with pytest.raises(CaseError) as info:
         read_source(pipe)
-    assert str(info.value) == f"{pipe}: cannot read the case file: not a regular file"
+    assert str(info.value) == (f"{pipe}: cannot read the case file: it is a named pipe "
+                               "(FIFO), not a regular file")
 
 
 def test_a_source_built_from_too_many_bytes_is_refused():

@@ -30,6 +30,8 @@ def _perturbed(name: str, value):
         return value * 1.5 + 1 if math.isfinite(value) else -value
     if isinstance(value, str):
         return value + " (changed)"
+    if value == ():  # the board's sources of the published defaults: none
+        return (("severity_bands_K", "a board's source (changed)"),)
     if isinstance(value, tuple) and all(isinstance(v, tuple) and len(v) == 2 for v in value) \
             and all(v[1] in SEVERITIES for v in value):
         key, severity = value[0]
@@ -111,3 +113,13 @@ def test_the_default_text_of_the_bands_is_unchanged():
 
     assert "(low < 50 K, medium 50-200 K, high > 200 K)" in severity_source()
     assert "(low > 24 h, medium 8-24 h, high < 8 h)" in probability_source()
+
+
+def test_the_pressure_bands_drive_the_pressure_finding(demo):
+    case = next(c for s, c in demo if c.id == "soda-ash-quench")
+    f = next(f for f in evaluate(case, LIB).assessment.findings if f.rule == "pressure-severity")
+    assert f.severity == "critical"  # 21 bar of CO2 against a 3 bar design (see the case)
+    lax = dataclasses.replace(DEFAULT, pressure_severity_bands=(
+        ("low", -math.inf, 50.0), ("medium", 50.0, 100.0), ("high", 100.0, math.inf)))
+    rules = [f.rule for f in evaluate(case, LIB, settings=lax).assessment.findings]
+    assert "pressure-severity" not in rules

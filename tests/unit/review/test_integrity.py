@@ -9,13 +9,13 @@ from pathlib import Path
 import pytest
 
 from dossier.assess.evaluate import assess_case
-from dossier.casefile.load import load_case
+from dossier.casefile.load import load_case, read_source
 from dossier.engine.settings import DEFAULT
 from dossier.errors import CaseError, LibraryError, SpeciesError
 from dossier.library.lookup import Library
 from dossier.review.digest import (INTEGRITY_FORMAT, IntegrityRecord, canonical_json, case_digest,
-                               check_recorded_reviews, digest_for_case, short_digest,
-                               without_review_tables)
+                               check_recorded_reviews, content_bytes, digest_for_case,
+                               short_digest)
 from paths import FIXTURES
 
 FIXTURES = FIXTURES / "cases"
@@ -51,14 +51,14 @@ def test_known_answer_follows_the_documented_serialisation():
                          {"z": 1.5, "a": [1, None, True]})
     species = _sha('{"a":"\\u00e9","b":1,"id":"X(g)"}')
     settings = _sha('{"a":[1,null,true],"z":1.5}')
-    manifest = ('{"case":"' + SHA256_ABC + '","format":"dossier-integrity-1",'
+    manifest = ('{"case":"' + SHA256_ABC + '","format":"dossier-integrity-2",'
                 '"library_version":"L1","settings":"' + settings + '",'
                 '"species":[["X(g)","' + species + '"]],"tool_version":"T1"}')
     assert record.case_file_digest == SHA256_ABC
     assert record.species_digests == (("X(g)", species),)
     assert record.settings_digest == settings
     assert record.digest == _sha(manifest)
-    assert record.format == INTEGRITY_FORMAT == "dossier-integrity-1"
+    assert record.format == INTEGRITY_FORMAT == "dossier-integrity-2"
 
 
 def test_to_dict_carries_the_manifest_and_the_digest():
@@ -246,7 +246,7 @@ def test_digest_for_case_covers_exactly_the_records_the_assessment_used(tmp_path
     path.write_text(CASE_TEXT.format(source="estimate"), encoding="utf-8")
     record, revision, case_id = digest_for_case(path)
     assert (revision, case_id) == (2, "burn")
-    assert record.case_file_digest == hashlib.sha256(path.read_bytes()).hexdigest()
+    assert record.case_file_digest == hashlib.sha256(content_bytes(read_source(path))).hexdigest()
     ids = [sid for sid, _ in record.species_digests]
     assert set(ids) == _used_ids(path)
     # the case's own table is a record the assessment used; the inert is used by
@@ -309,18 +309,90 @@ def _write(tmp_path, digest: str = "not yet known", body: bytes = _REVIEWED):
     return p
 
 
-def test_review_tables_do_not_enter_the_digest(tmp_path):
-    with_review = _REVIEWED.replace(b"%s", b"abc")
-    without = without_review_tables(with_review)
-    assert b"[[review]]" not in without and b"A. Reviewer" not in without
-    assert b'temperature = ["20 degC", "40 degC"]' in without and without.endswith(b"Narrative.\n")
-    # A second, different verdict leaves the digest alone ...
-    more = with_review.replace(b"+++\n\nNarrative", b'[[review]]\nname = "B"\nrole = "x"\n'
-                               b'date = 2026-11-21\nverdict = "declined"\n+++\n\nNarrative')
-    assert without_review_tables(more) == without
-    # ... but any other edit changes it.
-    edited = with_review.replace(b"40 degC", b"45 degC")
-    assert without_review_tables(edited) != without
+_GUARDED = b'''+++
+title = "Neutralisation"
+revision = 2
+status = "accepted"
+reaction = "H+(aq) + OH-(aq) -> H2O(l)"
+temperature = ["20 degC", "40 degC"]
+
+[[review]]
+name = "A. Reviewer"
+role = "process safety"
+date = 2026-11-20
+verdict = "accepted-with-conditions"
+conditions = "Dose acid under level control."
+
+[charge]
+basis = "OH-(aq)"
+amount = "100 mol"
+mass = "1000 kg"
+cp = "4.1 kJ/(kg*K)"
+process_temperature = "25 degC"
+accumulation = "100 %"
+
+[vessel]
+mtt = "100 degC"
++++
+
+Narrative.
+'''
+
+
+def _digest_of(tmp_path, data: bytes, name: str = "neut.md") -> str:
+    p = tmp_path / name
+    p.write_bytes(data)
+    return digest_for_case(p)[0].digest
+
+
+# The promises of docs/signatures.md, each against the file above.
+@pytest.mark.parametrize("what, edit", [
+    ("a byte-order mark", lambda d: b"\xef\xbb\xbf" + d),
+    ("CRLF line endings", lambda d: d.replace(b"\n", b"\r\n")),
+    ("a comment and blank lines in the header",
+     lambda d: d.replace(b"[vessel]", b"# checked by the lab\n\n[vessel]")),
+    ("the tables in another order",
+     lambda d: d.replace(b"[vessel]\nmtt = \"100 degC\"\n", b"").replace(
+         b"[charge]", b"[vessel]\nmtt = \"100 degC\"\n\n[charge]")),
+    ("a second recorded verdict",
+     lambda d: d.replace(b"[charge]", b'[[review]]\nname = "B"\nrole = "x"\n'
+                         b'date = 2026-11-21\nverdict = "declined"\n\n[charge]')),
+    ("a recorded verdict's text changed",
+     lambda d: d.replace(b"level control.", b"level control and a second operator.")),
+])
+def test_edits_that_do_not_change_what_the_loader_reads_keep_the_digest(tmp_path, what, edit):
+    assert _digest_of(tmp_path, edit(_GUARDED)) == _digest_of(tmp_path, _GUARDED, "base.md"), what
+
+
+@pytest.mark.parametrize("what, edit", [
+    # hostile: a recorded verdict's multi-line string swallows the tables that follow
+    ("tables moved into a review's multi-line string",
+     lambda d: d.replace(b'conditions = "Dose acid under level control."',
+                         b'conditions = """Dose acid under level control.\n').replace(
+                         b"mtt = \"100 degC\"\n+++", b"mtt = \"100 degC\"\n\"\"\"\n+++")),
+    ("a value of a table after a review", lambda d: d.replace(b"100 degC", b"120 degC")),
+    ("a value written in other units", lambda d: d.replace(b"1000 kg", b"1 t")),
+    ("a key removed", lambda d: d.replace(b'mtt = "100 degC"\n', b"")),
+    ("the narrative", lambda d: d.replace(b"Narrative.", b"Narrative, edited.")),
+    ("trailing text in the narrative", lambda d: d + b"More.\n"),
+])
+def test_edits_that_change_what_the_loader_reads_change_the_digest(tmp_path, what, edit):
+    edited = edit(_GUARDED)
+    assert edited != _GUARDED, what
+    assert _digest_of(tmp_path, edited) != _digest_of(tmp_path, _GUARDED, "base.md"), what
+
+
+def test_the_swallowed_tables_are_really_gone_for_the_loader(tmp_path):
+    # the hostile edit above leaves a file that parses, with no [vessel] and no [charge]:
+    # the assessment reads something else, so the digest must move (it does, above)
+    swallowed = _GUARDED.replace(b'conditions = "Dose acid under level control."',
+                                 b'conditions = """Dose acid under level control.\n').replace(
+        b"mtt = \"100 degC\"\n+++", b"mtt = \"100 degC\"\n\"\"\"\n+++")
+    p = tmp_path / "swallowed.md"
+    p.write_bytes(swallowed)
+    case = load_case(p)
+    assert case.vessel is None and case.charge is None
+    assert "[vessel]" in case.reviews[0].conditions
 
 
 def test_recorded_verdict_matches_then_flags_a_change(tmp_path):

@@ -22,6 +22,7 @@ from dossier.review.signatures import (SignedReview, append_signature, load_sign
                                        make_review, parse_signatures, sign_review, verify_reviews,
                                        verify_signature)
 from dossier.cli.signing import COMMANDS, key_file_name
+from fuzzing import bounded
 from paths import FIXTURES
 
 FIXTURES = FIXTURES / "cases"
@@ -729,3 +730,43 @@ def test_verify_without_trusted_keys_or_with_an_orphan_signature_file(board, cli
     result = cli("verify", cases)
     assert result.exit_code == 2
     assert f"there is no case file {cases / 'burn.md'} for these signatures" in result.stderr
+
+
+# --------------------------------------------------------------------------
+# verify: unreadable input is exit 2, never "not valid" (issue 16)
+
+
+def test_verify_exits_2_on_a_case_with_a_5001_digit_number(board, cli):
+    """Python refuses to convert a whole number of over 4,300 digits (its documented
+    int_max_str_digits default, "Integer string conversion length limitation",
+    Python 3.11 docs); the case is unreadable input, not a failed signature."""
+    cases, key_path, _ = board
+    assert cli("sign", cases / "burn.md", "--key", key_path, "--verdict", "accepted").exit_code == 0
+    text = (cases / "burn.md").read_text(encoding="utf-8")
+    huge = cases / "huge.md"
+    huge.write_text(text.replace("revision = 2", "revision = 1" + "0" * 5000), encoding="utf-8")
+    assert "revision = 2" in text
+    result = cli("verify", cases)
+    assert result.exit_code == 2, result.output
+    assert result.exception is None or isinstance(result.exception, SystemExit)
+    assert (f"error: {huge}:3: a number here has more than 4,300 digits; write the value it "
+            "stands for with fewer digits") in result.stderr
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes are POSIX")
+@pytest.mark.parametrize("name,what", [("burn.signatures", "signatures"),
+                                       ("trusted-keys.txt", "trusted keys"),
+                                       ("pipe.md", "case file")])
+def test_verify_refuses_a_named_pipe_rather_than_waiting(board, cli, name, what):
+    cases, key_path, _ = board
+    assert cli("sign", cases / "burn.md", "--key", key_path, "--verdict", "accepted").exit_code == 0
+    if name == "pipe.md":  # signatures that name the pipe's case
+        (cases / "pipe.signatures").write_bytes(b"")
+    path = cases / name
+    path.unlink(missing_ok=True)
+    os.mkfifo(path)
+    with bounded(20):
+        result = cli("verify", cases)
+    assert result.exit_code == 2, result.output
+    assert (f"{path}: cannot read the {what}: it is a named pipe (FIFO), not a regular file"
+            in result.stderr), result.stderr
