@@ -87,22 +87,22 @@ def local_record(sp: LocalSpecies, window: tuple[float, float],
         return estimated_record(sp, formula, phase, settings)
     lo, hi = sp.t_range if sp.t_range else (min(T_REF, window[0]), max(T_REF, window[1]))
     return SpeciesRecord(
-        id=f"{sp.name}({phase})",
-        name=sp.name,
-        aliases=(f"{formula.hill}({phase})",) if sp.name != formula.hill else (),
-        formula=formula.hill,
-        elements=tuple((e, float(n)) for e, n in formula.elements),
-        charge=formula.charge,
-        phase=phase,
+        **_identity(sp, formula, phase),
         model=ConstantCp(sp.hf, sp.s, sp.cp, lo, hi),
         source=f"case-local data: {sp.source}",
         note="constant heat capacity" + ("" if sp.t_range else
                                          " (no range given: taken as valid over the window)"),
         uncertainty=tuple(sp.uncertainty),
-        cas=None,
-        molar_mass=formula.molar_mass,
-        smiles=sp.smiles,
     )
+
+
+def _identity(sp: LocalSpecies, formula: Formula, phase: str) -> dict:
+    """The fields of a case table's record that say which species it is."""
+    return dict(id=f"{sp.name}({phase})", name=sp.name,
+                aliases=(f"{formula.hill}({phase})",) if sp.name != formula.hill else (),
+                formula=formula.hill, elements=tuple((e, float(n)) for e, n in formula.elements),
+                charge=formula.charge, phase=phase, cas=None, molar_mass=formula.molar_mass,
+                smiles=sp.smiles)
 
 
 def estimated_record(sp: LocalSpecies, formula: Formula, phase: str,
@@ -115,21 +115,12 @@ def estimated_record(sp: LocalSpecies, formula: Formula, phase: str,
     est = estimate_species(str(sp.smiles).strip(), phase, str(sp.estimate), settings)
     note = "; ".join(est.notes + ((f"groups: {est.groups}",) if est.groups else ()))
     return SpeciesRecord(
-        id=f"{sp.name}({phase})",
-        name=sp.name,
-        aliases=(f"{formula.hill}({phase})",) if sp.name != formula.hill else (),
-        formula=formula.hill,
-        elements=tuple((e, float(n)) for e, n in formula.elements),
-        charge=formula.charge,
-        phase=phase,
+        **_identity(sp, formula, phase),
         model=est.model,
         source=(f"{ESTIMATE_PREFIX}{est.summary}: " + "; ".join(est.sources)
                 + (f" (case note: {sp.source})" if sp.source else "")),
         note=note,
         uncertainty=est.uncertainty,
-        cas=None,
-        molar_mass=formula.molar_mass,
-        smiles=sp.smiles,
         phase_data=_estimated_phase_data(est),
     )
 
