@@ -17,6 +17,7 @@ site: $(STAMP)
 	$(VENV)/bin/dossier build cases --out site
 
 test: $(STAMP)
+	@if command -v npm >/dev/null 2>&1; then npm ci --prefix tools/axe --no-audit --no-fund --silent; else echo "note: npm not found; the accessibility checks (tests/system/test_accessibility.py) will skip"; fi
 	$(PY) -m pytest -q
 
 screens: site

@@ -71,6 +71,16 @@ class SpeciesError(DossierError):
     """A species cannot be found in the library, or is ambiguous."""
 
 
+class UnknownSpeciesError(SpeciesError):
+    """No library species answers a label; ``nearest`` holds the ids of the nearest
+    names, or of the species in other phases (empty when none is near)."""
+
+    def __init__(self, problems: str | Problem | Iterable[Problem],
+                 nearest: tuple[str, ...] = ()):
+        super().__init__(problems)
+        self.nearest = tuple(nearest)
+
+
 class LibraryError(DossierError):
     """The species library data file is damaged or inconsistent."""
 

@@ -9,16 +9,19 @@ from the :class:`Evaluation`, never by resolving anything again.
 """
 from __future__ import annotations
 
+import dataclasses
 import importlib.metadata
 from dataclasses import dataclass
 
 import numpy as np
 
 from dossier import __version__
-from dossier.assess.batch import assess_batch
+from dossier.assess.batch import BatchResult, assess_batch
 from dossier.assess.resolve import Resolution, resolve_species, unused_table_warning
 from dossier.assess.rules import RuleSubject, run_rules
 from dossier.assess.solution import SolutionPlan, plan_equilibrium
+from dossier.assess.uncertainty import safety_intervals, sample_case, thermo_intervals
+from dossier.assess.variants import envelope, variant_results
 from dossier.chem.reaction import Reaction, Term, check_balance, parse_reaction
 from dossier.constants import T_REF
 from dossier.engine.phases import StableRange, describe_range, phase_warnings, stable_range
@@ -30,6 +33,7 @@ from dossier.library.record import SpeciesRecord
 from dossier.model.assessment import (Assessment, ProfileRow, SolutionState, SpeciesUse,
                                       Thermodynamics)
 from dossier.model.case import Case
+from dossier.model.findings import Finding
 
 CAUTIONS: tuple[str, ...] = (
     "These are screening-level estimates from tabulated data and published "
@@ -76,17 +80,31 @@ def evaluate(case: Case, library: Library, extra_temperatures: tuple[float, ...]
     thermo, plan = _thermodynamics(case, reaction, properties, extra_temperatures, settings,
                                    resolution, library)
     warnings += plan.warnings
-    batch = assess_batch(case, reaction, resolution, properties,
-                         _basis_term(case, reaction), library, settings)
-    findings = run_rules(RuleSubject(case=case, thermo=thermo, safety=batch.safety,
-                                     species=uses, settings=settings, warnings=warnings))
+    basis = _basis_term(case, reaction)
+    molar_mass = resolution.record_for(basis.key).molar_mass
+    sampled = sample_case(case, resolution, nus, settings)
+    thermo = thermo_intervals(thermo, properties, sampled,
+                              lambda T, lnK: plan.system.solve(T, lnK).conversion, settings)
+
+    def batch_of(c: Case) -> tuple[BatchResult, tuple[Finding, ...]]:
+        b = assess_batch(c, reaction, resolution, properties, basis, library, settings)
+        if b.safety is not None:
+            b = dataclasses.replace(b, safety=safety_intervals(
+                c, b.safety, properties, sample_case(c, resolution, nus, settings),
+                molar_mass, settings))
+        return b, run_rules(RuleSubject(case=c, thermo=thermo, safety=b.safety,
+                                        species=uses, settings=settings, warnings=warnings))
+
+    batch, findings = batch_of(case)
+    variants = variant_results(case, lambda c: (lambda b, f: (b.safety, f))(*batch_of(c)))
     assessment = Assessment(
         case_id=case.id, title=case.title, revision=case.revision, status=str(case.status),
         owner=case.owner, gate=case.gate,
         meeting=case.meeting.isoformat() if case.meeting else None,
         species=uses, thermo=thermo, safety=batch.safety, findings=findings,
         warnings=warnings, cautions=CAUTIONS, library_version=library.version,
-        tool_version=__version__)
+        tool_version=__version__, variants=variants,
+        envelope=envelope(case, batch.safety, properties))
     used = {r.id: r for r in resolution.records + batch.product_records + plan.records}
     return Evaluation(assessment, properties, resolution.records, tuple(used.values()), settings,
                       method_libraries(case, assessment))

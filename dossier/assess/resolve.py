@@ -27,7 +27,8 @@ from dossier.constants import T_REF
 from dossier.engine.estimate import (JOBACK_SOURCE, Estimate, composition_of, estimate_species,
                                      read_structure)
 from dossier.engine.settings import DEFAULT, MethodSettings
-from dossier.errors import CaseError, DossierError, FormulaError, Problem, SpeciesError
+from dossier.errors import (CaseError, DossierError, FormulaError, Problem, SpeciesError,
+                            UnknownSpeciesError)
 from dossier.library.lookup import Library
 from dossier.library.models import ConstantCp
 from dossier.library.phasedata import PhaseData
@@ -235,6 +236,9 @@ def resolve_species(case: Case, reaction: Reaction, library: Library,
             continue
         try:
             out.append(ResolvedTerm(term, library.resolve(term.label, term.phase)))
+        except UnknownSpeciesError as err:
+            problems.extend(Problem(unknown_species_text(term, p.message, err.nearest),
+                                    path, line, "reaction") for p in err.problems)
         except DossierError as err:
             problems.extend(Problem(f"species '{term.key}': {p.message}", path, line, "reaction")
                             for p in err.problems)
@@ -246,6 +250,34 @@ def resolve_species(case: Case, reaction: Reaction, library: Library,
             used.update(i for i, _sp, _r in _local_match(body, phase, local))
     unused = tuple((i, sp) for i, sp, _r in local if i not in used)
     return Resolution(tuple(out), unused)
+
+
+#: The phases an estimate from a structure can be made for (see engine.estimate).
+_ESTIMATED_PHASES = ("g", "l")
+
+
+def unknown_species_text(term: Term, message: str, nearest: tuple[str, ...]) -> str:
+    """The problem of a term whose species the library does not hold: the library's
+    ``message`` (with the ``nearest`` names, if any), then how to supply the data."""
+    if nearest and message.endswith("?"):  # "did you mean: ...?"
+        return f"species '{term.key}': {message} If not, {supply_hint(term)}"
+    if nearest:  # the same species in other phases
+        return f"species '{term.key}': {message}; if the phase is right, {supply_hint(term)}"
+    return f"species '{term.key}': {message}; {supply_hint(term)}"
+
+
+def supply_hint(term: Term) -> str:
+    """How to give the data of a term's species that the library does not hold: a
+    [[species]] table with its values, or (a gas or a liquid) an estimate from its
+    structure."""
+    formula = f'formula = "{term.label}"' if term.formula is not None else "formula"
+    name = "name" if term.formula is not None else f'name = "{term.label}"'
+    text = (f'give its data in a [[species]] table: {name}, {formula}, phase = '
+            f'"{term.phase}", hf, s, cp and source')
+    if term.phase not in _ESTIMATED_PHASES:
+        return text + " (an estimate from a structure is made for a gas or a liquid only)"
+    return (text + '; or have them estimated from its structure: the same table with smiles '
+                   'and estimate = "benson" (or "joback") in place of hf, s, cp and source')
 
 
 def unused_table_warning(case: Case, index: int, sp: LocalSpecies) -> str:
@@ -261,4 +293,4 @@ def unused_table_warning(case: Case, index: int, sp: LocalSpecies) -> str:
 
 __all__ = ["ESTIMATE_PREFIX", "ResolvedTerm", "Resolution", "StructureError", "local_record",
            "estimated_record", "structure_composition", "resolve_species",
-           "unused_table_warning"]
+           "supply_hint", "unknown_species_text", "unused_table_warning"]

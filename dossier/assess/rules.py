@@ -444,6 +444,43 @@ def pressure_severity(subj: RuleSubject) -> Iterator[Finding]:
                   "for it.", VAPOUR_SOURCE)
 
 
+MARGIN_SOURCE = ("Monte Carlo propagation of the stated uncertainties (each a 95 % "
+                 "half-width, sampled as a normal distribution; fixed seed), the margin's "
+                 "central 95 % interval; boundaries and limits as on the methods page")
+
+
+def _signed(x: float | None, unit: str) -> str:
+    return "unbounded" if x is None else f"{x:+.3g} {unit}".replace("-", "−")
+
+
+def borderline(subj: RuleSubject) -> Iterator[Finding]:
+    """A class boundary, a design limit or a crossover inside the 95 % interval of the
+    figure compared with it."""
+    s, level = subj.safety, subj.settings.limit_finding("borderline")
+    for m in (s.margins if s is not None else ()):
+        if not m.borderline:
+            continue
+        lo, hi = m.interval
+        yield Finding("borderline", level,
+                      f"{m.what[0].upper()}{m.what[1:]}: margin {_signed(m.nominal, m.unit)} "
+                      f"on the nominal figures, but its 95 % interval, {_signed(lo, m.unit)} to "
+                      f"{_signed(hi, m.unit)}, includes zero: {m.consequence}. The class or "
+                      "level printed rests on the nominal figures; narrow the uncertainty "
+                      "(measure the inputs that carry it) or design for the worse side.",
+                      MARGIN_SOURCE)
+    ch, t = subj.case.charge, subj.thermo
+    if ch is None:
+        return
+    for c, (lo, hi) in zip(t.crossovers, t.crossover_intervals_K):
+        if lo is not None and hi is not None and lo < hi and lo <= ch.process_temperature <= hi:
+            yield Finding("borderline", level,
+                          f"The crossover at {kelvin_celsius(c.T)} ({c.direction}) has a 95 % "
+                          f"interval of {lo:.1f} to {hi:.1f} K, which includes the process "
+                          f"temperature {kelvin_celsius(ch.process_temperature)}: within the "
+                          "species data's uncertainty the reaction may be favourable or "
+                          "unfavourable at standard state there.", MARGIN_SOURCE)
+
+
 Rule = tuple[str, Callable[[RuleSubject], Iterable[Finding]]]
 
 #: Every rule, in the order it runs: (stable name, function).
@@ -458,6 +495,7 @@ RULES: tuple[Rule, ...] = (
     ("exotherm-severity", exotherm_severity),
     ("criticality-class", criticality),
     ("mtsr-above-mtt", mtsr_above_mtt),
+    ("borderline", borderline),
     ("pressure-severity", pressure_severity),
     ("process-outside-window", process_outside_window),
     ("runaway-probability", probability),

@@ -21,12 +21,16 @@ from dossier.engine.derivation import derive
 from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.library.record import SpeciesRecord
 from dossier.render import pages as site
+from dossier.render.export import case_csv_files, register_csv_files
 from dossier.render.figures import case_figures, formula_svg, species_figure
 from dossier.render.guide import render_guide_pages
+from dossier.render.search import embeddable, search_index
 from dossier.render.maths import DerivationView, derivation_view, kirchhoff_assets
-from dossier.render.packets import PdfAttachment, Printed, lay_out, write_pdf
+from dossier.render.assembly import Part, assemble, page_counts
+from dossier.render.packets import PdfAttachment, Printed, lay_out, stamp_sheet, write_pdf
 from dossier.render.slugs import slugify
 from dossier.render.views import CaseView, FailedCase, MeetingView, SpeciesView
+from dossier.review.readiness import joins_meeting
 
 
 # --------------------------------------------------------------------------
@@ -95,8 +99,12 @@ class CaseOutput:
 
     view: CaseView
     files: dict[str, bytes]
-    printed: Printed | None  # the laid-out packet, for meeting packets
     problems: tuple[str, ...]
+
+    @property
+    def packet(self) -> bytes | None:
+        """The case's finished packet (meeting packets are put together from these)."""
+        return self.files.get(f"packets/{self.view.slug}.pdf")
 
 
 def case_output(a: AssessedCase, slug: str, species_slugs: Sequence[str], packets: bool,
@@ -115,13 +123,13 @@ def case_output(a: AssessedCase, slug: str, species_slugs: Sequence[str], packet
         if path not in base:
             own[path] = formula_svg(tex).encode("utf-8")
     own[f"cases/{slug}.json"] = view_json(v)
-    printed = None
+    own.update(case_csv_files(v))  # every table of the dossier as CSV
     if packets:
         path = f"packets/{slug}.pdf"
         printed = lay_out(site.render_case_packet(v), f"packets/{slug}.html", {**base, **own})
         problems.extend(f"{path}: asked for {u}" for u in printed.refused)
         own[path] = write_pdf([printed], [attachment(v)])
-    return CaseOutput(v, own, printed, tuple(problems))
+    return CaseOutput(v, own, tuple(problems))
 
 
 def case_pages(v: CaseView, packets: bool) -> dict[str, bytes]:
@@ -148,7 +156,7 @@ def meeting_views(views: Sequence[CaseView], meeting: str | None
     no case names that one."""
     by_date: dict[str, list] = {}
     for v in views:
-        if v.assessment.meeting:
+        if joins_meeting(v.assessment.status, v.assessment.meeting):  # not drafts, not withdrawn
             by_date.setdefault(v.assessment.meeting, []).append(v)
     problems = []
     if meeting is not None and meeting not in by_date:
@@ -160,14 +168,15 @@ def meeting_views(views: Sequence[CaseView], meeting: str | None
     return meetings, problems
 
 
-def meeting_cover(m: MeetingView, parts: Sequence[Printed], files: Mapping[str, bytes]) -> Printed:
-    """Lay out the meeting cover and agenda with the page where each case starts."""
-    cover_pages = 1
+def meeting_cover(m: MeetingView, counts: Sequence[int], files: Mapping[str, bytes]) -> Printed:
+    """Lay out the meeting's cover, agenda and sign-off sheet, with the page of the
+    meeting packet where each case starts (``counts``: the pages of each case packet)."""
+    cover_pages = 2
     for _ in range(3):  # the agenda's own length decides where the cases start
         starts, page = [], cover_pages + 1
-        for p in parts:
+        for n in counts:
             starts.append(page)
-            page += p.page_count
+            page += n
         cover = lay_out(site.render_meeting_packet(m, tuple(starts)),
                         f"packets/{m.slug}.html", files)
         if cover.page_count == cover_pages:
@@ -176,10 +185,17 @@ def meeting_cover(m: MeetingView, parts: Sequence[Printed], files: Mapping[str, 
     return cover
 
 
-def meeting_pdf(m: MeetingView, parts: Sequence[Printed], files: Mapping[str, bytes]) -> bytes:
-    """The packet of a meeting: cover and agenda, then each case's laid-out packet."""
-    cover = meeting_cover(m, parts, files)
-    return write_pdf([cover, *parts], [attachment(c) for c in m.cases])
+def meeting_pdf(m: MeetingView, case_pdfs: Sequence[bytes], files: Mapping[str, bytes]) -> bytes:
+    """The packet of a meeting: its cover, agenda and sign-off sheet (laid out here),
+    then each case's finished packet as it is (``case_pdfs``, in the order of
+    ``m.cases``), numbered through "page i of N" by one stamp sheet."""
+    counts = page_counts(case_pdfs)
+    cover = meeting_cover(m, counts, files)
+    cover_pdf = write_pdf([cover], [attachment(c) for c in m.cases])
+    sheet = stamp_sheet(f"Meeting packet {m.date}", cover.page_count + sum(counts))
+    parts = [Part(pdf, f"Case {c.id}, revision {c.assessment.revision}: {c.assessment.title}")
+             for c, pdf in zip(m.cases, case_pdfs)]
+    return assemble(cover_pdf, parts, sheet)
 
 
 def base_files(packets: bool = True) -> dict[str, bytes]:
@@ -201,11 +217,16 @@ def failed_rows(failures: Sequence[CaseFailure]) -> tuple[FailedCase, ...]:
 def site_pages(views: Sequence[CaseView], failed: Sequence[CaseFailure],
                meetings: Sequence[MeetingView], packets: bool,
                methods: MethodSettings = DEFAULT) -> dict[str, bytes]:
-    """The register, the methods page (of the policy in force) and the guide."""
-    return {"index.html": site.render_register(views, failed_rows(failed), meetings,
-                                               packets).encode("utf-8"),
-            "methods.html": site.render_methods_page(methods).encode("utf-8"),
-            **render_guide_pages()}
+    """The register, the methods page (of the policy in force), the guide and the
+    site's search index (``search.json``, also carried by the register)."""
+    guide = render_guide_pages()
+    methods_page = {"methods.html": site.render_methods_page(methods).encode("utf-8")}
+    index = search_index(views, methods_page, guide)
+    return {"index.html": site.render_register(views, failed_rows(failed), meetings, packets,
+                                               search=embeddable(index)).encode("utf-8"),
+            **methods_page, "search.json": index.encode("utf-8"),
+            **register_csv_files(views),
+            **guide}
 
 
 # --------------------------------------------------------------------------
@@ -263,10 +284,9 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
     meetings, meeting_problems = meeting_views(views, meeting)
     problems.extend(meeting_problems)
     if packets:
-        printed = {o.view.slug: o.printed for _a, o in done}
         for m in meetings:
             path = f"packets/{m.slug}.pdf"
-            files[path] = meeting_pdf(m, [printed[c.slug] for c in m.cases], files)
+            files[path] = meeting_pdf(m, [files[f"packets/{c.slug}.pdf"] for c in m.cases], files)
             made.append(path)
     files.update(site_pages(views, [*failures, *render_failed], meetings, packets))
     return RenderedSite(files, tuple(made), tuple(problems), tuple(render_failed))

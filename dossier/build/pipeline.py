@@ -365,7 +365,7 @@ def plan_meetings(b: Build, meetings: Sequence[MeetingView], ok: Sequence[CaseUn
         u = cached_unit(b.cache, "meeting", k)
         if u is None:
             calls.append((unit_meeting, (m.date, m.slug, [
-                (u.assessed.pickled, u.slug, u.species_slugs, u.view_key) for u in members],
+                (u.assessed.pickled, u.slug, u.species_slugs, u.key) for u in members],
                 k, b.root)))
         else:
             cached.append(u)

@@ -1,8 +1,25 @@
 """Running units of work: in this process (one job) or in a pool of worker
-processes, telling a progress callback how far each phase got."""
+processes, telling a progress callback how far each phase got.
+
+No worker outlives the build.  The fork server lives as long as any worker
+does (every worker holds its "alive" pipe), so a worker cannot wait for its
+parent to die: each worker watches the building process itself, through a
+pidfd (``os.pidfd_open``; polling where there is none), and kills itself
+the moment that process is gone, however it ended (SIGKILL included).  It
+also asks the kernel for SIGKILL when its parent dies (``PR_SET_PDEATHSIG``:
+the building process itself where workers are spawned).  With the workers
+gone the fork server sees its pipe close and exits, and the resource tracker
+follows.  A run of one job, or of one unit, starts no process at all.
+"""
 from __future__ import annotations
 
+import ctypes
+import ctypes.util
 import multiprocessing
+import os
+import select
+import signal
+import threading
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from typing import Callable
 
@@ -12,6 +29,44 @@ Call = tuple[Callable, tuple]  # a unit function and its arguments
 #: Imported once by the forkserver, so that every worker starts with them.
 WORKER_MODULES = ("dossier.build.units", "dossier.assess.evaluate", "dossier.render.pages",
                   "dossier.render.figures", "matplotlib.pyplot")
+
+
+_PR_SET_PDEATHSIG = 1  # from <linux/prctl.h>
+
+
+def bind_to_parent(build_pid: int) -> None:
+    """Pool initializer: die with the parent; exit now if the build is already gone."""
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or None, use_errno=True)
+        libc.prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
+    except (OSError, AttributeError):  # not Linux: the checks below still apply
+        pass
+    if os.getppid() == 1 or not process_exists(build_pid):
+        os._exit(1)  # the build died before this worker could watch it
+    threading.Thread(target=watch_build, args=(build_pid,), name="dossier-watch-build",
+                     daemon=True).start()
+
+
+def watch_build(build_pid: int) -> None:
+    """In a worker: wait for the building process to end, then end this worker."""
+    try:
+        fd = os.pidfd_open(build_pid)
+    except (AttributeError, OSError):  # no pidfd (old kernel, other system): poll
+        while process_exists(build_pid):
+            select.select([], [], [], 0.5)
+    else:
+        select.select([fd], [], [])  # readable once the process has exited
+    os.kill(os.getpid(), signal.SIGKILL)
+
+
+def process_exists(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # exists, owned by someone else
+        return True
+    return True
 
 
 class Runner:
@@ -33,7 +88,9 @@ class Runner:
             if "forkserver" in methods:
                 ctx.set_forkserver_preload(
                     [*WORKER_MODULES, *(["weasyprint"] if self.packets else [])])
-            self.pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=ctx)
+            self.pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=ctx,
+                                            initializer=bind_to_parent,
+                                            initargs=(os.getpid(),))
         return self.pool
 
     def tell(self, phase: str, done: int, total: int) -> None:
@@ -69,4 +126,5 @@ class Runner:
             self.pool = None
 
 
-__all__ = ["Call", "Progress", "Runner", "WORKER_MODULES"]
+__all__ = ["Call", "Progress", "Runner", "WORKER_MODULES", "bind_to_parent", "process_exists",
+           "watch_build"]

@@ -15,8 +15,8 @@ from typing import Mapping, Sequence
 from dossier.build.assessing import AssessedCase, CaseFailure, assess_inputs
 from dossier.build.cache import Cache
 from dossier.build.layout import UsedBy
-from dossier.build.outputs import (base_files, case_output, case_pages, meeting_pdf,
-                                   render_failure, species_files)
+from dossier.build.outputs import (base_files, case_output, case_pages, light_view,
+                                   meeting_pdf, render_failure, species_files)
 from dossier.build.pickles import dumps, loads
 from dossier.library.lookup import Library
 from dossier.library.record import SpeciesRecord
@@ -116,22 +116,22 @@ def unit_species(rec: SpeciesRecord, slug: str, local_to: str | None, used_by: l
 
 def unit_meeting(date: str, slug: str, members: list[tuple[bytes, str, list[str], str]],
                  unit_key: str, cache_root: str) -> UnitResult:
-    """The packet of one meeting, from its cases' pickled assessments (each as
-    (assessment, case slug, species slugs, view key))."""
-    base = base_files_once(True)
-    files, outs, made = dict(base), [], 0
-    for data, case_slug, sp, view_key in members:
-        view = cached_view(cache_root, view_key)
-        made += view is None
-        out = case_output(loads(data), case_slug, sp, True, base, view)
-        files.update(out.files)
-        outs.append(out)
-    m = MeetingView(date=date, slug=slug,
-                    cases=tuple(sorted((o.view for o in outs), key=lambda v: v.id)))
-    by_slug = {o.view.slug: o.printed for o in outs}
-    pdf = meeting_pdf(m, [by_slug[c.slug] for c in m.cases], files)
-    result = store(cache_root, "meeting", unit_key, {f"packets/{slug}.pdf": pdf})
-    return dataclasses.replace(result, views_made=made, views_reused=len(members) - made)
+    """The packet of one meeting, put together from its cases' finished packets (each
+    member as (pickled assessment, case slug, species slugs, case unit key)); only the
+    cover, agenda and sign-off sheet are laid out here."""
+    cache = Cache(Path(cache_root))
+    views, pdfs = [], {}
+    for data, case_slug, sp, case_unit_key in members:
+        case_unit = cached_unit(cache, "case", case_unit_key)
+        path = f"packets/{case_slug}.pdf"
+        pdf = cache.read_blob(case_unit.files[path]) if case_unit and path in case_unit.files else None
+        if pdf is None:
+            raise RuntimeError(f"the cache lost the packet of case {case_slug}; build again")
+        views.append(light_view(loads(data), case_slug, sp))
+        pdfs[case_slug] = pdf
+    m = MeetingView(date=date, slug=slug, cases=tuple(sorted(views, key=lambda v: v.id)))
+    pdf = meeting_pdf(m, [pdfs[c.slug] for c in m.cases], base_files_once(True))
+    return store(cache_root, "meeting", unit_key, {f"packets/{slug}.pdf": pdf})
 
 
 __all__ = ["UnitResult", "base_files_once", "cached_unit", "cached_view", "store",

@@ -36,10 +36,13 @@ from typing import Any
 
 from dossier.casefile.locate import locate_keys
 from dossier.casefile.schema import DELIMITER
-from dossier.casefile.validate import validate_header
-from dossier.errors import CaseError, Problem
-from dossier.constants import P_STANDARD
+from dossier.casefile.validate import INVALID, STATED_UNCERTAINTY, check_header, validate_header
+from dossier.casefile.variants import variant_headers
+from dossier.chem.formula import parse_formula
+from dossier.errors import CaseError, FormulaError, Problem
+from dossier.constants import P_STANDARD, T_REF
 from dossier.model.case import (ActivityModel, Case, Charge, Decomposition, LocalSpecies,
+                                Variant,
                                 Measured, Phase, Review, Status, Verdict, Vessel)
 
 #: Largest case file accepted, in bytes.
@@ -304,7 +307,7 @@ def _parse_toml(parts: _Parts, filename: str) -> dict[str, Any]:
 
 
 def _build(top: dict[str, Any], parts: _Parts, filename: str,
-           lines: dict[str, int]) -> Case:
+           lines: dict[str, int], raw: dict[str, Any] | None = None) -> Case:
     def opt(table: dict | None, cls):
         return None if table is None else cls(**table)
 
@@ -333,6 +336,13 @@ def _build(top: dict[str, Any], parts: _Parts, filename: str,
         reviews.append(Review(verdict=Verdict(r.pop("verdict")),
                               conditions=r.pop("conditions") or "", **r))
     path = Path(filename)
+    stated = dict(top.get(STATED_UNCERTAINTY) or {})
+    if top["measured"] is not None and top["measured"].get("uncertainty") is not None:
+        stated["measured.reaction_enthalpy"] = top["measured"]["uncertainty"]
+    variants = tuple(
+        Variant(v.name, v.note, v.changes,
+                _build({**v.top, STATED_UNCERTAINTY: v.uncertainty}, parts, filename, lines))
+        for v in variant_headers(top, raw or {}, stated))
     return Case(
         id=path.stem,
         path=path,
@@ -354,6 +364,11 @@ def _build(top: dict[str, Any], parts: _Parts, filename: str,
         measured=opt(top["measured"], Measured),
         species=tuple(species),
         reviews=tuple(reviews),
+        uncertainty=tuple(sorted((k, u) for k, u in stated.items()
+                                 if not k.startswith("variant["))),
+        variants=variants,
+        not_applicable=tuple((k, v) for k, v in (top.get("not_applicable") or {}).items()
+                             if v is not None),
         narrative=parts.narrative,
         narrative_line=parts.narrative_line,
         format_version=top["format"] or 1,
@@ -386,13 +401,106 @@ def parse_case_text(text: str, filename: str) -> Case:
     if len(text) > MAX_FILE_BYTES or \
             len(text.encode("utf-8", "surrogatepass")) > MAX_FILE_BYTES:
         raise _too_large(filename)
+    parts, raw, lines = _header_of_text(text, filename)
+    top = validate_header(raw, lines, filename)
+    return _build(top, parts, filename, lines, raw)
+
+
+def _header_of_text(text: str, filename: str) -> tuple[_Parts, dict[str, Any], dict[str, int]]:
+    """The text's parts, its header's TOML values and the line of each key."""
     if text.startswith(_BOM):
         text = text[1:]
     parts = _split(text, filename)
     raw = _parse_toml(parts, filename)
-    lines = locate_keys(parts.header, parts.header_line)
-    top = validate_header(raw, lines, filename)
-    return _build(top, parts, filename, lines)
+    return parts, raw, locate_keys(parts.header, parts.header_line)
+
+
+# --------------------------------------------------------------------------
+# Checking: every problem of the header, and what the reaction's checks can read
+# --------------------------------------------------------------------------
+
+#: The window a case whose own window is invalid is given for the reaction's checks
+#: (K): it bounds only the range of a [[species]] table's constant-Cp record, which
+#: those checks never evaluate.
+_CHECK_WINDOW = (T_REF, T_REF + 100.0)
+
+
+@dataclass(frozen=True)
+class CaseCheck:
+    """What ``dossier check`` learns from a case file's header.
+
+    ``problems`` are the header's (schema, units, cross-checks), sorted by line;
+    ``case`` is the case when there are none.  When there are some but the reaction
+    is valid text, ``reaction_case`` holds what the reaction's checks read (the
+    reaction, the valid inerts and window, the [[species]] tables whose name,
+    formula and phase are valid and whose formula reads) so that an unbalanced reaction or an unknown species
+    is reported with the rest.  A [[species]] table with an invalid value there is
+    kept for its identity only, with zero data (``source`` says so): the reaction's
+    checks use its name, formula and phase, never its values.  The names of tables
+    too damaged to keep are in ``unreadable_species``; a term they would answer is
+    not reported as unknown.
+    """
+
+    problems: tuple[Problem, ...]
+    case: Case | None = None
+    reaction_case: Case | None = None
+    unreadable_species: tuple[str, ...] = ()
+
+
+#: The ``source`` of a [[species]] table kept for the reaction's checks only.
+UNCHECKED_SOURCE = "not read: the table has invalid values"
+
+
+def check_source(source: CaseSource) -> CaseCheck:
+    """Every problem of the header of ``source``, and the case or what the reaction's
+    checks can read (see :class:`CaseCheck`).
+
+    Raises :class:`CaseError` only when the header cannot be read at all (too large,
+    not UTF-8, no header, a TOML syntax error): nothing after that can be checked.
+    """
+    parts, raw, lines = _header_of_text(_text_of(source), source.name)
+    top, problems = check_header(raw, lines, source.name)
+    if not problems:
+        return CaseCheck((), _build(top, parts, source.name, lines, raw))
+    if not isinstance(top.get("reaction"), str):
+        return CaseCheck(problems)
+    species, unreadable = [], []
+    for sp in top.get("species") or []:
+        if isinstance(sp, dict) and all(isinstance(sp.get(k), str)
+                                        for k in ("name", "formula", "phase")) \
+                and _is_formula(sp["formula"]):
+            species.append(_checked_species(sp))
+        elif isinstance(sp, dict) and isinstance(sp.get("name"), str):
+            unreadable.append(sp["name"])
+    valid = {k: v for k, v in top.items() if v is not INVALID}
+    path = Path(source.name)
+    case = Case(id=path.stem, path=path, title=valid.get("title") or path.stem, revision=1,
+                status=Status.DRAFT, reaction=top["reaction"],
+                window=valid.get("temperature") or _CHECK_WINDOW,
+                pressure=valid.get("pressure") or P_STANDARD, inerts=valid.get("inerts") or (),
+                species=tuple(species), header_lines=MappingProxyType(dict(lines)))
+    return CaseCheck(problems, None, case, tuple(unreadable))
+
+
+def _is_formula(text: str) -> bool:
+    try:
+        parse_formula(text)
+    except FormulaError:
+        return False
+    return True
+
+
+def _checked_species(sp: dict[str, Any]) -> LocalSpecies:
+    """A [[species]] table for the reaction's checks: as written when every value is
+    valid, else its identity only (see :class:`CaseCheck`)."""
+    if all(v is not INVALID for v in sp.values()):
+        s = dict(sp)
+        unc = s.pop("uncertainty") or {}
+        return LocalSpecies(phase=Phase(s.pop("phase")),
+                            uncertainty=tuple((k, v) for k, v in unc.items() if v is not None),
+                            **s)
+    return LocalSpecies(name=sp["name"], formula=sp["formula"], phase=Phase(sp["phase"]),
+                        hf=0.0, s=0.0, cp=0.0, source=UNCHECKED_SOURCE)
 
 
 def signed_content(source: CaseSource) -> dict[str, Any]:
@@ -414,5 +522,5 @@ def signed_content(source: CaseSource) -> dict[str, Any]:
     return {"header": header, "narrative": narrative}
 
 
-__all__ = ["MAX_FILE_BYTES", "MAX_KEY_PARTS", "not_regular", "outside_link", "CaseSource", "read_source", "parse_source", "header_of",
+__all__ = ["CaseCheck", "check_source", "UNCHECKED_SOURCE", "MAX_FILE_BYTES", "MAX_KEY_PARTS", "not_regular", "outside_link", "CaseSource", "read_source", "parse_source", "header_of",
            "load_case", "read_header", "parse_case_text", "signed_content"]

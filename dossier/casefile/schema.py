@@ -9,7 +9,7 @@ so a key exists in one place.  Pressures are absolute (see
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from dossier.model.case import ActivityModel, EstimateMethod, Phase, Status, Verdict
 
@@ -29,7 +29,8 @@ class FieldSpec:
     ``dimension``), ``mass_or_amount``, ``temperature_pair`` (two
     temperatures, low < high), ``quantity_map`` (a table of labels, each a
     quantity of ``dimension``), ``table`` (a sub-table per ``table``),
-    ``tables`` (an array of tables per ``table``).
+    ``tables`` (an array of tables per ``table``), ``text_or_tables`` (one
+    text, or an array of tables per ``table``).
     """
 
     name: str
@@ -103,6 +104,15 @@ DECOMPOSITION = TableSpec("[decomposition]", (
               example='{ temperature = "200 degC", power = "8 W/kg" }'),
 ))
 
+#: Why a safety input does not apply to a case: one reason per table it stands
+#: for, so that a submitted case gives every safety input or says why not.
+NOT_APPLICABLE = TableSpec("[not_applicable]", (
+    FieldSpec("charge", "text", example='"continuous loop: no batch; see the narrative"'),
+    FieldSpec("vessel", "text", example='"open tank vented to the scrubber; no closed gas space"'),
+    FieldSpec("decomposition", "text",
+              example='"dilute aqueous salts below 60 degC; no decomposing species"'),
+))
+
 MEASURED = TableSpec("[measured]", (
     _q("reaction_enthalpy", "energy_per_amount", "-540 kJ/mol", required=True),
     FieldSpec("method", "text", required=True,
@@ -143,6 +153,12 @@ EQUILIBRIUM = TableSpec("[equilibrium]", (
               example='"unifac"'),
 ))
 
+#: One condition of a recorded verdict, with the id its closure names (C1, C2, ...).
+CONDITION = TableSpec("[[review.conditions]]", (
+    FieldSpec("id", "text", required=True, example='"C1"'),
+    FieldSpec("text", "text", required=True, example='"Feed interlocked on cooling water flow."'),
+))
+
 REVIEW = TableSpec("[[review]]", (
     FieldSpec("name", "text", required=True, example='"R. Example"'),
     FieldSpec("role", "text", required=True, example='"process safety"'),
@@ -150,9 +166,51 @@ REVIEW = TableSpec("[[review]]", (
     FieldSpec("verdict", "choice", required=True,
               choices=tuple(v.value for v in Verdict),
               example='"accepted-with-conditions"'),
-    FieldSpec("conditions", "text", example='"Feed interlocked on cooling water flow."'),
+    # one text (the first form, no id), or a table / [[review.conditions]] tables with ids
+    FieldSpec("conditions", "text_or_tables", table=CONDITION,
+              example='{ id = "C1", text = "Feed interlocked on cooling water flow." }'),
     FieldSpec("digest", "text", example='"..."'),
 ))
+
+#: A condition closed out: recorded in the case file like a verdict (outside the digest).
+CLOSURE = TableSpec("[[closure]]", (
+    FieldSpec("condition", "text", required=True, example='"C1"'),
+    FieldSpec("evidence", "text", required=True,
+              example='"interlock function test IT-2291 passed, record in the plant file"'),
+    FieldSpec("by", "text", required=True, example='"M. Okafor, plant manager"'),
+    FieldSpec("date", "date", required=True, example="2026-12-01"),
+))
+
+def _optional(spec: TableSpec, title: str, leave_out: tuple[str, ...] = ()) -> TableSpec:
+    """``spec`` with every key optional (a variant overrides only what it names)."""
+    return TableSpec(title, tuple(replace(f, required=False, required_unless="")
+                                  for f in spec.fields if f.name not in leave_out))
+
+
+#: The tables a variant may override.  The basis species sets what every conversion
+#: refers to, so a variant may not change it (the validator says so).
+VARIANT_TABLES: dict[str, TableSpec] = {
+    "charge": _optional(CHARGE, "[charge] of a variant"),
+    "vessel": _optional(VESSEL, "[vessel] of a variant"),
+    "decomposition": _optional(DECOMPOSITION, "[decomposition] of a variant"),
+    "measured": _optional(MEASURED, "[measured] of a variant"),
+}
+
+_VARIANT_EXAMPLES = {
+    "charge": '{ accumulation = "50 %", feed_time = "2 h" }',
+    "vessel": '{ cooling_ua = "1.5 kW/K" }',
+    "decomposition": '{ energy = "600 J/g" }',
+    "measured": '{ reaction_enthalpy = "-560 kJ/mol", method = "heat-flow calorimetry" }',
+}
+
+VARIANT = TableSpec("[[variant]]", (
+    FieldSpec("name", "text", required=True, example='"faster dosing"'),
+    FieldSpec("note", "text", example='"feed in 2 h instead of 4 h"'),
+) + tuple(FieldSpec(name, "table", table=spec, example=_VARIANT_EXAMPLES[name])
+          for name, spec in VARIANT_TABLES.items()))
+
+#: The tables whose quantities may carry an uncertainty, "1.90 ± 0.10 kJ/(kg*K)".
+UNCERTAIN_TABLES = ("charge", "vessel", "decomposition", "measured")
 
 #: The whole header.
 SCHEMA = TableSpec("the header", (
@@ -175,12 +233,16 @@ SCHEMA = TableSpec("the header", (
     FieldSpec("charge", "table", table=CHARGE, example="[charge]"),
     FieldSpec("vessel", "table", table=VESSEL, example="[vessel]"),
     FieldSpec("decomposition", "table", table=DECOMPOSITION, example="[decomposition]"),
+    FieldSpec("not_applicable", "table", table=NOT_APPLICABLE, example="[not_applicable]"),
     FieldSpec("measured", "table", table=MEASURED, example="[measured]"),
     FieldSpec("species", "tables", table=SPECIES, example="[[species]]"),
+    FieldSpec("variant", "tables", table=VARIANT, example="[[variant]]"),
     FieldSpec("review", "tables", table=REVIEW, example="[[review]]"),
+    FieldSpec("closure", "tables", table=CLOSURE, example="[[closure]]"),
 ))
 
 
 __all__ = ["SUPPORTED_FORMATS", "DELIMITER", "FieldSpec", "TableSpec", "SCHEMA", "CHARGE",
            "VESSEL", "RATE", "DECOMPOSITION", "MEASURED", "SPECIES_UNCERTAINTY", "SPECIES",
-           "REVIEW", "EQUILIBRIUM", "SPECIES_ESTIMATED_KEYS"]
+           "REVIEW", "CONDITION", "CLOSURE", "EQUILIBRIUM", "SPECIES_ESTIMATED_KEYS", "VARIANT", "VARIANT_TABLES",
+           "UNCERTAIN_TABLES"]

@@ -22,9 +22,10 @@ import json
 import re
 from pathlib import Path
 
-from dossier.casefile.schema import DELIMITER, SCHEMA, FieldSpec, TableSpec
+from dossier.casefile.schema import DELIMITER, SCHEMA, VARIANT_TABLES, FieldSpec, TableSpec
 from dossier.casefile.units import DIMENSIONS
-from dossier.chem.reaction import parse_reaction
+from dossier.chem.phases import split_phase
+from dossier.chem.reaction import formula_of, parse_reaction
 from dossier.errors import DossierError, Problem
 
 #: Longest case id accepted (the id is the file stem and part of web addresses).
@@ -37,7 +38,7 @@ STARTING_WINDOW = ('"25 degC"', '"100 degC"')
 
 #: What each key means and what it takes.  Paths as in the schema: table keys
 #: are joined with "."; array tables ([[species]], [[review]]) use their name.
-KEY_HELP: dict[str, str] = {
+_TABLE_HELP: dict[str, str] = {
     # -- top level --------------------------------------------------------
     "format": "Case-file format version. This version of dossier reads format 1.",
     "title": "Short title for the register, the dossier page and the packet.",
@@ -115,6 +116,17 @@ KEY_HELP: dict[str, str] = {
     "decomposition.rate.temperature": "Temperature at which the rate was measured.",
     "decomposition.rate.power": "Heat-release rate per mass at that temperature "
                                 "(W/kg).",
+    # -- [not_applicable] ---------------------------------------------------
+    "not_applicable": "Why a safety input does not apply to this case: a submitted case "
+                      "gives [charge], [vessel] and [decomposition], or names the one "
+                      "that does not apply here with the reason (a sentence the board "
+                      "can judge). Give the table or the reason, never both.",
+    "not_applicable.charge": "Why the case has no batch ([charge]), e.g. a continuous "
+                             "process.",
+    "not_applicable.vessel": "Why the case has no vessel data ([vessel]).",
+    "not_applicable.decomposition": "Why no decomposition data ([decomposition]) are "
+                                    "needed, e.g. no species that can decompose in the "
+                                    "reaction mass.",
     # -- [measured] ---------------------------------------------------------
     "measured": "A measured reaction enthalpy (calorimetry). When given, it is used "
                 "for the safety figures instead of the computed one, and compared "
@@ -164,10 +176,51 @@ KEY_HELP: dict[str, str] = {
     "review.date": "Date of the verdict: YYYY-MM-DD, without quotes.",
     "review.verdict": "accepted, accepted-with-conditions or declined.",
     "review.conditions": "The conditions of the verdict; required with "
-                         "accepted-with-conditions.",
+                         "accepted-with-conditions. One text; or, so that a [[closure]] "
+                         "can close it, a table with its id and text, or one "
+                         "[[review.conditions]] table per condition.",
+    "review.conditions.id": "The condition's id in this case: C1, C2, ...",
+    "review.conditions.text": "What the condition asks for.",
     "review.digest": "The integrity digest of the case the verdict was given on "
                      "(see docs/signatures.md).",
+    # -- [[closure]] ---------------------------------------------------------
+    "closure": "A condition closed out (one [[closure]] table each), added when the "
+               "evidence is in, without raising the revision: closures, like verdicts, "
+               "are outside the integrity digest.",
+    "closure.condition": "The id of the condition closed: C1, C2, ... (R<n> or S<n> for a "
+                         "condition written without an id; see docs/signatures.md).",
+    "closure.evidence": "What shows the condition is met: a test record, a document.",
+    "closure.by": "Who closed it (name and role).",
+    "closure.date": "Date of the closure: YYYY-MM-DD, without quotes.",
+    # -- [[variant]] ---------------------------------------------------------
+    "variant": "A what-if variant of the case (one [[variant]] table each): a few "
+               "inputs changed, assessed beside the base case. Every key it does not "
+               "give is the base case's.",
+    "variant.name": "Short name of the variant, shown as its column heading.",
+    "variant.note": "What the variant stands for, in a sentence.",
 }
+
+
+def _variant_help(table_help: dict[str, str]) -> dict[str, str]:
+    """Help for the keys of a variant's tables: each key's is its base table's."""
+    out: dict[str, str] = {}
+
+    def walk(spec: TableSpec, base_path: str, path: str) -> None:
+        for f in spec.fields:
+            out[f"{path}.{f.name}"] = table_help[f"{base_path}.{f.name}"]
+            if f.table is not None:
+                walk(f.table, f"{base_path}.{f.name}", f"{path}.{f.name}")
+
+    for name, table in VARIANT_TABLES.items():
+        but = " but basis (a variant keeps the base case's basis)" if name == "charge" else ""
+        out[f"variant.{name}"] = (f"Inputs of [{name}] that differ in this variant: any key "
+                                  f"of [{name}]{but}.")
+        walk(table, name, f"variant.{name}")
+    return out
+
+
+#: The help line of every key path of the schema (the tests keep it complete).
+KEY_HELP: dict[str, str] = {**_TABLE_HELP, **_variant_help(_TABLE_HELP)}
 
 
 def check_case_id(case_id: str) -> str:
@@ -209,6 +262,7 @@ def _what(spec: FieldSpec) -> str:
                         "\"0.5 mol\" }",
         "table": "a table",
         "tables": "tables",
+        "text_or_tables": "text in quotes, or a table (or tables) of the keys below",
     }.get(spec.kind, spec.kind)
 
 
@@ -257,7 +311,9 @@ def _field_lines(spec: FieldSpec, path: str, in_table: str | None,
     """Comment lines and a commented-out example line for one optional field."""
     lines = _comment_block(f"{spec.name}: {_help(path)} Takes {_what(spec)}. "
                            f"{_need(spec, in_table)}")
-    if spec.kind == "table" and spec.table is not None:
+    if path.startswith("variant.") and spec.table is not None:
+        pass  # the keys of the base table, explained there
+    elif spec.kind in ("table", "text_or_tables") and spec.table is not None:
         for sub in spec.table.fields:
             lines += _comment_block(f"{spec.name}.{sub.name}: "
                                     f"{_help(path + '.' + sub.name)} "
@@ -281,6 +337,21 @@ def _table_lines(spec: FieldSpec, examples: dict[str, str]) -> list[str]:
     return out
 
 
+def _unknown_species_examples(unknown: tuple[str, ...]) -> dict[str, str]:
+    """The commented-out [[species]] table's name, phase (and formula, where the term is
+    written as one) for the first of the reaction's species the library does not hold
+    (``unknown``: terms such as "intermediate B(l)")."""
+    if not unknown:
+        return {}
+    label, phase = split_phase(unknown[0])
+    if phase is None:
+        return {}
+    out = {"species.name": _toml_string(label), "species.phase": _toml_string(phase)}
+    if formula_of(label) is not None:
+        out["species.formula"] = _toml_string(label)
+    return out
+
+
 def _first_reactant(reaction: str | None) -> str | None:
     if not reaction:
         return None
@@ -290,14 +361,16 @@ def _first_reactant(reaction: str | None) -> str | None:
         return None
 
 
-def case_template(case_id: str, reaction: str | None) -> str:
+def case_template(case_id: str, reaction: str | None, unknown: tuple[str, ...] = ()) -> str:
     """The text of a new case file ``<case_id>.md``, every key explained.
 
     The required keys are filled in: ``title`` (the case id, to be replaced),
     ``revision = 1``, ``status = "draft"``, ``reaction`` (when given) and the
     ``temperature`` window (a starting value to replace).  Every optional key
-    and table is present but commented out.  Raises :class:`DossierError` for
-    an unsafe ``case_id``.
+    and table is present but commented out; the [[species]] table's example names the
+    first of ``unknown`` (terms of the reaction the library does not hold, such as
+    "intermediate B(l)") when there are any.  Raises :class:`DossierError` for
+    an unsafe ``case_id``.  The reaction is written as given (its arrow too).
     """
     check_case_id(case_id)
     if reaction is not None and not isinstance(reaction, str):
@@ -310,6 +383,7 @@ def case_template(case_id: str, reaction: str | None) -> str:
                                        'cp = "20 J/(mol*K)" }'}
     if basis:
         examples["charge.basis"] = _toml_string(basis)
+    examples.update(_unknown_species_examples(unknown))
 
     out = [DELIMITER]
     out += _comment_block(
@@ -402,12 +476,14 @@ def _narrative_lines(case_id: str) -> list[str]:
     ]
 
 
-def write_new_case(cases_dir: str | Path, case_id: str, reaction: str | None) -> Path:
+def write_new_case(cases_dir: str | Path, case_id: str, reaction: str | None,
+                   unknown: tuple[str, ...] = ()) -> Path:
     """Write :func:`case_template` to ``<cases_dir>/<case_id>.md``; return the path.
 
     Refuses (with :class:`DossierError`) an unsafe id, a reaction that cannot
     be parsed, a ``cases_dir`` that is not a folder, and an existing file: an
     existing case is never overwritten.  ``cases_dir`` is created if missing.
+    ``unknown``: see :func:`case_template` (``dossier new`` finds them in the library).
     """
     check_case_id(case_id)
     if reaction is not None:
@@ -416,7 +492,7 @@ def write_new_case(cases_dir: str | Path, case_id: str, reaction: str | None) ->
         except DossierError as err:
             raise DossierError([Problem(p.message, key="reaction")
                                 for p in err.problems]) from None
-    text = case_template(case_id, reaction)
+    text = case_template(case_id, reaction, unknown)
     folder = Path(cases_dir)
     if folder.exists() and not folder.is_dir():
         raise DossierError(Problem(f"{folder} is not a folder; give the folder that "

@@ -25,17 +25,27 @@ Rules (the case-file format relies on them):
   (``barg``, ``psig``) are rejected with a hint; write the absolute value.
 * Units are read by a small tokenizer of our own (names, ``*``, ``/``,
   ``^`` or ``**`` with a one-digit exponent, parentheses, and the usual
-  ``m3`` / ``cm3`` shorthand for powers), then handed to pint.  Anything else
-  in a unit (digits runs, operators, nested powers) is refused before pint
-  sees it, so a hostile unit string cannot make pint compute huge powers.
+  ``m3`` / ``cm3`` shorthand for powers).  Anything else in a unit (digit
+  runs, operators, nested powers) is refused, so a hostile unit string cannot
+  make anyone compute huge powers.  Unicode forms are read as their plain
+  spelling: ``m³``, ``m²``, ``K⁻¹`` (one-digit superscript powers), ``°C``,
+  ``℃``, ``°F``, ``µ`` or ``μ`` for micro, ``·``, ``⋅`` and ``×`` for a product.
+* The tokens are evaluated with the table of :mod:`dossier.casefile.unit_table`
+  (the units case files use, with exact factors); pint reads only what the
+  table does not hold (``mmHg``, ``inch``, plural names, compound units with a
+  repeating factor such as ``kJ/h``).  Both give the same values (checked
+  against pint unit by unit, and on every case file of the project).
 * Results are rounded to 15 significant digits, which removes conversion
   noise such as ``800 L`` -> ``0.8000000000000002 m3`` and changes no input
   that a person typed.
+* A unit of the wrong kind is explained in words: what it reads as ("60 C"
+  reads as coulombs, an electric charge; "J/kg K" as joules times kelvins per
+  kilogram) and, when a usual slip explains it, what to write instead.
 
-pint is imported, and its registry built, on the first call only (with pint's
-on-disk cache), so importing this module is cheap.  Measured on the
-development machine: importing pint about 0.37 s, building the cached registry
-about 0.05 s, the first few conversions about 0.01 s.
+pint is imported, and its registry built, only when the table does not hold a
+unit, so importing this module and reading an ordinary case are cheap.
+Measured on the development machine: importing pint about 0.15-0.3 s,
+building the cached registry about 0.05 s.
 """
 from __future__ import annotations
 
@@ -43,9 +53,12 @@ import difflib
 import math
 import re
 from dataclasses import dataclass
+from fractions import Fraction
 from functools import cache
 from typing import Any, Literal, overload
 
+from dossier.casefile.unit_table import (NOUNS_BEYOND_CASES, Dims, NotInTable, Reading,
+                                         in_words, read_tokens)
 from dossier.errors import Problem, UnitError
 
 #: Largest absolute SI value accepted (guards against overflow and typos).
@@ -118,13 +131,19 @@ _UNIT_TOKEN_RE = re.compile(
     re.VERBOSE,
 )
 _SPELLINGS = {"°C": "degC", "℃": "degC", "°F": "degF", "℉": "degF", "°K": "K",
-              "μ": "µ"}
+              "μ": "µ", "·": "*", "⋅": "*", "×": "*"}
+_SUPERSCRIPTS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹", "0123456789")
+_SUPERSCRIPT_RE = re.compile("(⁻?)([⁰¹²³⁴⁵⁶⁷⁸⁹]+)")
+# a lone C or F (coulomb, farad), as people write for Celsius and Fahrenheit
+_LETTER_RE = re.compile(r"(?<![A-Za-z_])[CF](?![A-Za-z_0-9])")
+# "J/kg K": one '/' and no parentheses, the part after it holding two units
+_OVER_RE = re.compile(r"([^/()]+)/([^/()]+)")
 _GAUGE = ("barg", "psig", "kPag", "MPag", "mbarg")
 
 
 @cache
 def _registry():  # -> pint.UnitRegistry, created on first use
-    import pint  # deferred: costs ~0.4 s, not needed by every command
+    import pint  # deferred: costs ~0.3 s; only units beyond our table need it
 
     try:
         return pint.UnitRegistry(cache_folder=":auto:")
@@ -156,11 +175,19 @@ def _expected(noun: str, example: str) -> str:
     return f"expected {noun}, like '{example}'"
 
 
-def _normalise_unit(unit_text: str, noun: str, example: str, given: str) -> str:
-    """Check a unit string against our small grammar; return pint spelling."""
+def _plain_spelling(unit_text: str) -> str:
+    """Unicode unit forms in our spelling: "m³" -> "m^3", "J·mol⁻¹" -> "J*mol^-1"."""
     text = unit_text
     for spelled, canonical in _SPELLINGS.items():
         text = text.replace(spelled, canonical)
+    return _SUPERSCRIPT_RE.sub(
+        lambda m: "^" + ("-" if m.group(1) else "") + m.group(2).translate(_SUPERSCRIPTS),
+        text)
+
+
+def _tokens(unit_text: str, noun: str, example: str, given: str) -> list[str]:
+    """Check a unit string against our small grammar; return its tokens."""
+    text = _plain_spelling(unit_text)
     if "," in text:
         raise _fail(f"{_expected(noun, example)}; got {given}: use '.' for decimals "
                     "and no thousands separators")
@@ -210,11 +237,11 @@ def _normalise_unit(unit_text: str, noun: str, example: str, given: str) -> str:
     if depth != 0 or last != "operand":
         raise _fail(f"{_expected(noun, example)}; got {given}: cannot read the unit "
                     f"'{unit_text.strip()}'")
-    return "".join(out)
+    return out
 
 
-def _split(value: Any, noun: str, example: str) -> tuple[float, str, str]:
-    """Split raw input into (number, unit text, shown form); check the basics."""
+def _split(value: Any, noun: str, example: str) -> tuple[float, str, str, str]:
+    """Split raw input into (number, unit text, shown form, number as written)."""
     given = _shown(value)
     if isinstance(value, bool) or not isinstance(value, (str, int, float)):
         raise _fail(f"expected {noun} as text with a unit, like '{example}'; "
@@ -238,7 +265,7 @@ def _split(value: Any, noun: str, example: str) -> tuple[float, str, str]:
     unit = text[m.end():]
     if unit.strip() == "":
         raise _fail(f"expected {noun} with a unit, like '{example}'; got {given}")
-    return number, unit, given
+    return number, unit, given, m.group(0)
 
 
 def _dimension(name: str) -> Dimension:
@@ -249,18 +276,98 @@ def _dimension(name: str) -> Dimension:
                          f"{', '.join(sorted(DIMENSIONS))}") from None
 
 
-def _describe_units(units) -> str:
-    """Name the dimension of some pint units, for a 'which is ...' clause."""
+@cache
+def _dims_of(name: str) -> Dims | None:
+    """The dimension of a :data:`DIMENSIONS` entry, read from its SI unit."""
+    return read_tokens(_tokens(DIMENSIONS[name].si_unit, "", "", "")).dims
+
+
+_PINT_DIMS = ("[length]", "[mass]", "[time]", "[temperature]", "[substance]", "[current]")
+
+
+def _pint_reading(spelled: str, units) -> Reading:
+    """A :class:`Reading` of pint units (factor unused: pint converts those)."""
     reg = _registry()
-    dim = units.dimensionality
+    dims = units.dimensionality
+    known = None if set(dims) - set(_PINT_DIMS) else tuple(int(dims.get(d, 0))
+                                                           for d in _PINT_DIMS)
+    offset = reg.Quantity(0.0, units).to_base_units().magnitude
+    terms = reg.parse_units_as_container(spelled).items()
+    return Reading(Fraction(1), known, Fraction(offset) if offset else Fraction(0),
+                   "delta_" in str(units),
+                   tuple((name.replace("_", " "), int(p)) for name, p in terms))
+
+
+def _read(unit_text: str, noun: str, example: str, given: str,
+          dim: Dimension | None = None) -> tuple[Reading, Any]:
+    """Read a unit: from our table, or else from pint (then also its pint units).
+
+    Raises :class:`UnitError` for text pint does not know either (with a hint
+    from ``dim``'s common units when given).
+    """
+    tokens = _tokens(unit_text, noun, example, given)
+    try:
+        return read_tokens(tokens), None
+    except NotInTable:
+        pass
+    reg = _registry()
+    try:
+        units = reg.parse_units("".join(tokens))
+        reading = _pint_reading("".join(tokens), units)
+    except Exception:  # pint raises several types, some of them bare
+        hint = _unknown_unit_hint(unit_text, dim) if dim else ""
+        raise _fail(f"unknown unit '{unit_text.strip()}' in {given}; "
+                    f"{_expected(noun, example)}{hint}") from None
+    try:  # our words for a unit the table holds but leaves to pint's arithmetic
+        return read_tokens(tokens, strict=False), units
+    except NotInTable:
+        return reading, units
+
+
+def _which_is(reading: Reading) -> str:
+    """What a unit measures, in words, for a 'got ..., which ...' clause."""
     nouns = [d.noun for d in DIMENSIONS.values()
-             if d.name != "temperature_difference"
-             and reg.parse_units(d.si_unit).dimensionality == dim]
+             if d.name != "temperature_difference" and _dims_of(d.name) == reading.dims]
     if nouns:
-        return " or ".join(dict.fromkeys(nouns))
-    if not dim:
-        return "a plain number"
-    return f"a quantity of dimension {dim}"
+        return "which is " + " or ".join(dict.fromkeys(nouns))
+    if reading.dims is not None and not any(reading.dims):
+        return "which is a plain number"
+    words = in_words(reading.terms)
+    if reading.dims in NOUNS_BEYOND_CASES:
+        return f"which reads as {words} ({NOUNS_BEYOND_CASES[reading.dims]})"
+    return f"which reads as {words}"
+
+
+def _fixes(unit_text: str, dim: Dimension) -> tuple[tuple[str, str], ...]:
+    """Rewrites of a unit that people often mean, each with the reason shown."""
+    text = _plain_spelling(unit_text).strip()
+    out = []
+    if dim.name == "temperature":
+        swapped = _LETTER_RE.sub(lambda m: "deg" + m.group(0), text)
+    else:
+        swapped = _LETTER_RE.sub(lambda m: "K" if m.group(0) == "C" else "delta_degF", text)
+    if swapped != text:
+        out.append((swapped, ""))
+    over = _OVER_RE.fullmatch(text)
+    if over and len(over.group(2).split()) + over.group(2).count("*") > 1:
+        below = "*".join(w for w in re.split(r"[\s*]+", over.group(2)) if w)
+        out.append((f"{over.group(1).strip()}/({below})",
+                    ", because '/' divides by the next unit only"))
+    return tuple(out)
+
+
+def _mismatch(reading: Reading, number_text: str, unit_text: str, given: str,
+              dim: Dimension) -> UnitError:
+    """The message for a unit of the wrong kind, with a rewrite when one fits."""
+    message = f"{_expected(dim.noun, dim.example)}; got {given}, {_which_is(reading)}"
+    for fixed, why in _fixes(unit_text, dim):
+        try:  # only rewrites into units of our table are offered
+            candidate = read_tokens(_tokens(fixed, dim.noun, dim.example, given), strict=False)
+        except (UnitError, NotInTable):
+            continue
+        if candidate.dims == _dims_of(dim.name):
+            return _fail(f"{message}{why}; write '{number_text} {fixed}' for {dim.noun}")
+    return _fail(message)
 
 
 def _unknown_unit_hint(unit_text: str, dim: Dimension) -> str:
@@ -275,28 +382,28 @@ def _unknown_unit_hint(unit_text: str, dim: Dimension) -> str:
     return f"; did you mean '{close[0]}'?" if close else ""
 
 
-def _convert(number: float, unit_text: str, given: str, dim: Dimension) -> float:
+def _to_si(number: float, reading: Reading, units: Any, given: str,
+           dim: Dimension) -> float:
+    """Convert with the table's exact factor, or with pint for pint's units."""
+    if units is None:
+        return number * float(reading.factor) + float(reading.offset)
     reg = _registry()
-    spelled = _normalise_unit(unit_text, dim.noun, dim.example, given)
-    try:
-        units = reg.parse_units(spelled)
-    except Exception:  # pint raises several types, some of them bare
-        raise _fail(f"unknown unit '{unit_text.strip()}' in {given}; "
-                    f"{_expected(dim.noun, dim.example)}"
-                    f"{_unknown_unit_hint(unit_text, dim)}") from None
-    target = reg.parse_units(dim.si_unit)
-    if units.dimensionality != target.dimensionality:
-        raise _fail(f"{_expected(dim.noun, dim.example)}; got {given}, which is "
-                    f"{_describe_units(units)}")
-    is_offset = reg.Quantity(0.0, units).to(target).magnitude != 0.0
-    if dim.name == "temperature" and "delta_" in str(units):
+    return float(reg.Quantity(number, units).to(reg.parse_units(dim.si_unit)).magnitude)
+
+
+def _convert(number: float, unit_text: str, given: str, dim: Dimension,
+             number_text: str) -> float:
+    reading, units = _read(unit_text, dim.noun, dim.example, given, dim)
+    if reading.dims != _dims_of(dim.name):
+        raise _mismatch(reading, number_text, unit_text, given, dim)
+    if dim.name == "temperature" and reading.delta:
         raise _fail(f"{_expected(dim.noun, dim.example)}; got {given}, which is a "
                     "temperature difference; use K, degC or degF")
-    if dim.name == "temperature_difference" and is_offset:
+    if dim.name == "temperature_difference" and reading.offset:
         raise _fail(f"{_expected(dim.noun, dim.example)}; got {given}, which is a "
                     "temperature, not a difference; use K or delta_degC")
     try:
-        value = float(reg.Quantity(number, units).to(target).magnitude)
+        value = _to_si(number, reading, units, given, dim)
     except Exception:
         raise _fail(f"{_expected(dim.noun, dim.example)}; got {given}: cannot "
                     "convert it") from None
@@ -323,8 +430,8 @@ def parse_quantity(text, dimension):
     if dimension == MASS_OR_AMOUNT:
         return parse_mass_or_amount(text)
     dim = _dimension(dimension)
-    number, unit, given = _split(text, dim.noun, dim.example)
-    value = _convert(number, unit, given, dim)
+    number, unit, given, number_text = _split(text, dim.noun, dim.example)
+    value = _convert(number, unit, given, dim, number_text)
     if dim.name == "temperature" and value <= 0.0:
         raise _fail(f"expected a temperature above absolute zero, like "
                     f"'{dim.example}'; got {given} (= {value:g} K)")
@@ -343,17 +450,10 @@ def parse_mass_or_amount(text: Any) -> tuple[Literal["mass", "amount"], float]:
     Returns ``("mass", kg)`` or ``("amount", mol)``.
     """
     noun, example = "a mass or an amount of substance", "120 kg' or '3 kmol"
-    number, unit, given = _split(text, noun, example)
-    reg = _registry()
-    spelled = _normalise_unit(unit, noun, example, given)
-    try:
-        units = reg.parse_units(spelled)
-    except Exception:
-        raise _fail(f"unknown unit '{unit.strip()}' in {given}; "
-                    f"{_expected(noun, example)}") from None
+    number, unit, given, number_text = _split(text, noun, example)
+    reading, _ = _read(unit, noun, example, given)
     for kind in ("mass", "amount"):
-        dim = DIMENSIONS[kind]
-        if units.dimensionality == reg.parse_units(dim.si_unit).dimensionality:
-            return kind, _convert(number, unit, given, dim)  # type: ignore[return-value]
-    raise _fail(f"{_expected(noun, example)}; got {given}, which is "
-                f"{_describe_units(units)}")
+        if reading.dims == _dims_of(kind):
+            value = _convert(number, unit, given, DIMENSIONS[kind], number_text)
+            return kind, value  # type: ignore[return-value]
+    raise _fail(f"{_expected(noun, example)}; got {given}, {_which_is(reading)}")

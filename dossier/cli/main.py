@@ -1,10 +1,10 @@
 """The `dossier` command line: the group and the commands about single cases
-(``evaluate``, ``check``, ``species``, ``new``).
+(``evaluate``, ``species``, ``new``; ``check`` lives in :mod:`dossier.cli.checking`).
 
 Every command turns a :class:`dossier.errors.DossierError` into one line per
 problem on standard error and exit code 2; ``--debug`` shows the traceback
 instead.  The site commands (:mod:`dossier.cli.site`) and the signing commands
-(:mod:`dossier.cli.signing`) are loaded from :data:`COMMAND_MODULES` only when
+(:mod:`dossier.cli.signing`) and ``check`` are loaded from :data:`COMMAND_MODULES` only when
 asked for, so that ``dossier evaluate`` pays neither for the build and the
 pages nor for the cryptography library.  Heavy libraries (sympy, matplotlib,
 weasyprint) are imported inside the functions that need them.
@@ -19,24 +19,25 @@ from pathlib import Path
 import click
 
 from dossier import __version__
+from dossier.assess.check import reaction_report
 from dossier.assess.evaluate import assess_case
 from dossier.casefile.load import load_case
-from dossier.casefile.template import write_new_case
+from dossier.casefile.template import check_case_id, write_new_case
 from dossier.casefile.units import parse_quantity
 from dossier.errors import EXIT_BAD_INPUT, DossierError, Problem, UnitError
 from dossier.library.lookup import Library
 from dossier.render.species_text import describe
 from dossier.render.terminal import render_assessment
 from dossier.review.inputs import policy_settings, read_policy
-from dossier.review.revisions import archived_revisions
 
 #: Commands that live in other modules of this package, loaded on first use:
 #: command name -> module whose ``COMMANDS`` tuple holds it.  The one dynamic
 #: import of the package (checked by tests/contracts).
 COMMAND_MODULES: dict[str, str] = {
     "build": "dossier.cli.site", "serve": "dossier.cli.site",
+    "check": "dossier.cli.checking",
     "keygen": "dossier.cli.signing", "sign": "dossier.cli.signing",
-    "verify": "dossier.cli.signing",
+    "verify": "dossier.cli.signing", "withdraw": "dossier.cli.signing",
 }
 
 
@@ -97,39 +98,20 @@ def evaluate(case_file: Path, at: tuple[str, ...], as_json: bool) -> None:
 
 
 @main.command()
-@click.argument("paths", nargs=-1, required=True, type=click.Path(path_type=Path))
-def check(paths: tuple[Path, ...]) -> None:
-    """Validate case files (or folders of them); exit 0 when all are good, 2 otherwise."""
-    files: list[Path] = []
-    for p in paths:
-        for f in (sorted(p.glob("*.md")) if p.is_dir() else [p]):
-            files.append(f)
-            files.extend(path for _n, path in archived_revisions(f))
-    bad = 0
-    for f in files:
-        try:
-            assess_case(load_case(f), Library.default(),
-                        settings=policy_settings(read_policy(f.parent)))
-        except DossierError as err:
-            bad += 1
-            for problem in err.problems:
-                click.echo(f"error: {problem}", err=True)
-        else:
-            click.echo(f"ok: {f}")
-    click.echo(f"{len(files) - bad} of {len(files)} case files are good.")
-    if bad or not files:
-        sys.exit(EXIT_BAD_INPUT)
-
-
-@main.command()
 @click.argument("query")
 @click.option("--limit", default=10, show_default=True, help="Show at most this many records.")
 def species(query: str, limit: int) -> None:
-    """Search the species library and print records with their sources."""
+    """Search the species library and print records with their sources.
+
+    Best first: the same formula or an exact name, then names that start with or
+    hold QUERY, then names close to it (a typing slip is forgiven)."""
     lib = Library.default()
     hits = lib.search(query)
     if not hits:
-        click.echo(f"No species in library {lib.version} matches '{query}'.")
+        click.echo(f"No species in library {lib.version} matches '{query}', and no name "
+                   "is close to it. A species the library does not hold is given in the "
+                   "case as a [[species]] table (its data, or an estimate from its "
+                   "structure).")
         sys.exit(1)
     for rec in hits[:limit]:
         click.echo(f"{rec.id}")
@@ -146,8 +128,27 @@ def species(query: str, limit: int) -> None:
 @click.option("--cases", "cases_dir", default="cases", show_default=True,
               type=click.Path(file_okay=False, path_type=Path), help="The cases folder.")
 def new_case(case_id: str, reaction: str | None, cases_dir: Path) -> None:
-    """Write a new case file from the template, every key explained."""
-    path = write_new_case(cases_dir, case_id, reaction)
+    """Write a new case file from the template, every key explained.
+
+    A reaction given is checked first: one that does not balance, or names a species
+    several library records answer, is refused (nothing is written); a species the
+    library does not hold is named in a warning that says how to supply its data."""
+    check_case_id(case_id)
+    warnings: tuple[str, ...] = ()
+    unknown: tuple[str, ...] = ()
+    if reaction is not None:
+        try:
+            report = reaction_report(reaction, Library.default())
+        except DossierError as err:
+            raise DossierError([Problem(p.message, key="reaction")
+                                for p in err.problems]) from None
+        if report.problems:
+            raise DossierError([Problem(f"{m}; no case file was written", key="reaction")
+                                for m in report.problems])
+        warnings, unknown = report.warnings, report.unknown
+    path = write_new_case(cases_dir, case_id, reaction, unknown)
+    for warning in warnings:
+        click.echo(f"warning: {warning}", err=True)
     click.echo(f"wrote {path}; fill it in, then run: dossier check {path}")
 
 

@@ -282,6 +282,32 @@ def td24(cp: float, ea: float, q_ref: float, t_ref: float,
     )
 
 
+def td24_many(cp, ea, q_ref, t_ref, time_s: float = DEFAULT.td24_time_s) -> np.ndarray:
+    """TD24 (K) for arrays of inputs, element by element, by bisection on the same
+    ln TMRad as :func:`td24`; NaN where an input is not positive or 24 h is not crossed
+    between 100 K and min(3000 K, Ea/(2R)).  For sampling: one solve for thousands of
+    draws."""
+    cp, ea, q_ref, t_ref = (np.asarray(v, dtype=float) for v in (cp, ea, q_ref, t_ref))
+    cp, ea, q_ref, t_ref = np.broadcast_arrays(cp, ea, q_ref, t_ref)
+    with np.errstate(all="ignore"):
+        ok = (cp > 0) & (ea > 0) & (q_ref > 0) & (t_ref > 0)
+        target = math.log(time_s)
+
+        def f(T):
+            return np.log(cp * R * T * T / (q_ref * ea)) + (ea / R) * (1.0 / T - 1.0 / t_ref) \
+                - target
+
+        lo = np.full(cp.shape, 100.0)
+        hi = np.minimum(3000.0, ea / (2.0 * R) * (1.0 - 1e-9))
+        ok &= (hi > lo) & (f(lo) >= 0.0) & (f(hi) <= 0.0)
+        for _ in range(64):
+            mid = 0.5 * (lo + hi)
+            above = f(mid) > 0.0
+            lo = np.where(above, mid, lo)
+            hi = np.where(above, hi, mid)
+    return np.where(ok, 0.5 * (lo + hi), np.nan)
+
+
 # --------------------------------------------------------------------------
 # Criticality class, severity and probability
 # --------------------------------------------------------------------------
@@ -299,6 +325,23 @@ class CriticalityResult:
     reason: str
     missing: tuple[str, ...] = ()
     source: str = field(default=CRITICALITY_SOURCE, repr=False)
+
+
+#: Why each class is what it is, in words.
+_CLASS_WHY = {
+    1: ("MTSR is below MTT and below TD24, and MTT is below TD24: neither the technical "
+        "limit nor the decomposition is reached"),
+    2: ("MTSR is below MTT and below TD24, but MTT is not below TD24: if the mass stays at "
+        "elevated temperature for long, the decomposition could be triggered before the "
+        "technical limit acts"),
+    3: ("MTSR reaches or exceeds MTT but stays below TD24: the mass reaches the technical "
+        "limit (e.g. boiling) without triggering the decomposition; the limit must be able "
+        "to hold the temperature"),
+    4: ("MTSR is at or above TD24, so the decomposition can be triggered; MTT is below TD24, "
+        "so evaporative cooling or relief at MTT could act as a barrier if designed for it"),
+    5: ("MTSR is at or above TD24, so the decomposition can be triggered; MTT is not below "
+        "TD24, so the technical limit offers no barrier before the decomposition runs away"),
+}
 
 
 def criticality_class(t_process: float | None, mtsr: float | None,
@@ -329,30 +372,25 @@ def criticality_class(t_process: float | None, mtsr: float | None,
         )
     temps = (f"T_p = {kelvin_celsius(tp)}, MTSR = {kelvin_celsius(ms)}, MTT = {kelvin_celsius(mt)}, "
              f"TD24 = {kelvin_celsius(td)}")
-    if ms >= td:
-        if mt < td:
-            klass, why = 4, ("MTSR is at or above TD24, so the decomposition can be triggered; "
-                             "MTT is below TD24, so evaporative cooling or relief at MTT "
-                             "could act as a barrier if designed for it")
-        else:
-            klass, why = 5, ("MTSR is at or above TD24, so the decomposition can be triggered; "
-                             "MTT is not below TD24, so the technical limit offers no barrier "
-                             "before the decomposition runs away")
-    elif ms >= mt:
-        klass, why = 3, ("MTSR reaches or exceeds MTT but stays below TD24: the mass reaches "
-                         "the technical limit (e.g. boiling) without triggering the "
-                         "decomposition; the limit must be able to hold the temperature")
-    elif mt < td:
-        klass, why = 1, ("MTSR is below MTT and below TD24, and MTT is below TD24: neither "
-                         "the technical limit nor the decomposition is reached")
-    else:
-        klass, why = 2, ("MTSR is below MTT and below TD24, but MTT is not below TD24: if "
-                         "the mass stays at elevated temperature for long, the "
-                         "decomposition could be triggered before the technical limit acts")
+    klass = int(criticality_classes(ms, mt, td))
+    why = _CLASS_WHY[klass]
     notes = ""
     if tp >= td:
         notes = " Note: the process temperature itself is at or above TD24."
     return CriticalityResult(klass, f"class {klass}: {why} ({temps}).{notes}")
+
+
+def criticality_classes(mtsr_K, mtt_K, td24_K):
+    """The criticality class (1..5) for arrays of MTSR, MTT and TD24 (K), element by
+    element; 0 where any of the three is not a finite number.  The one place where the
+    order of the temperature levels becomes a class (see :data:`CRITICALITY_SOURCE`;
+    equalities go to the more critical class)."""
+    ms, mt, td = (np.asarray(v, dtype=float) for v in (mtsr_K, mtt_K, td24_K))
+    known = np.isfinite(ms) & np.isfinite(mt) & np.isfinite(td)
+    with np.errstate(invalid="ignore"):
+        klass = np.where(ms >= td, np.where(mt < td, 4, 5),
+                         np.where(ms >= mt, 3, np.where(mt < td, 1, 2)))
+    return np.where(known, klass, 0)
 
 
 def severity_from_rise(dT_ad: float, bands: Bands = DEFAULT.severity_bands_K) -> Level:

@@ -102,9 +102,12 @@ class MethodSettings:
     #: of the assessment: the MTSR at or above the MTT, and the process temperature
     #: outside the window.  Our choice: reaching the MTT is what makes class 3 or worse
     #: a "warning" in criticality_findings; a window that misses the process temperature
-    #: leaves its figures unchecked, a "caution".
+    #: leaves its figures unchecked, a "caution"; a figure whose 95 % interval reaches
+    #: across a class boundary or a design limit ("borderline"), a "warning", as the
+    #: worse side may hold.
     limit_findings: tuple[tuple[str, str], ...] = (
-        ("mtsr-above-mtt", "warning"), ("process-outside-window", "caution"))
+        ("mtsr-above-mtt", "warning"), ("process-outside-window", "caution"),
+        ("borderline", "warning"))
     #: Severity on the pressure at the MTSR, on the ratio of the highest pressure in the
     #: closed gas space (evolved gas plus the vapour of the liquids) to the design
     #: pressure.  Our choice, no published scale: at or above the design pressure the
@@ -201,6 +204,19 @@ class MethodSettings:
     #: choice: about 95 % coverage if the estimate's errors were normal.
     estimate_disagreement_u: float = 2.0
 
+    # -- uncertainty (engine/uncertainty.py) ---------------------------------
+    #: Draws of the Monte Carlo propagation of the stated uncertainties.  Project
+    #: choice: with 4,000 draws the ends of a 95 % interval are found to about 2 % of
+    #: its half-width (the standard error of a 2.5th percentile of a normal sample,
+    #: sqrt(p(1-p)/n)/φ(z), is 0.05 standard deviations at n = 4,000).
+    uncertainty_samples: int = 4000
+    #: Seed of the draws: fixed, so that the same case gives the same intervals and the
+    #: same pages on every build.
+    uncertainty_seed: int = 20261202
+    #: Coverage of the intervals printed, and the meaning of every stated uncertainty
+    #: (the half-width of an interval of this coverage).
+    uncertainty_coverage: float = 0.95
+
     # -- the policy in force ----------------------------------------------------
     #: Name of the policy these values are: the published defaults, or the board's
     #: policy file that changed some of them (review/policy.py).
@@ -219,7 +235,9 @@ class MethodSettings:
         return dict(self.criticality_findings)[klass]
 
     def limit_finding(self, rule: str) -> str:
-        return dict(self.limit_findings)[rule]
+        """The severity of a limit rule; a policy that does not name the rule keeps the
+        published default for it."""
+        return dict(self.limit_findings).get(rule) or dict(DEFAULT.limit_findings)[rule]
 
     def source_of(self, name: str) -> str:
         """The citation of the value of setting ``name`` in force: the board's source
@@ -309,7 +327,8 @@ DEFAULT_SOURCES: Mapping[str, str] = MappingProxyType({
                              "class (none for 1; 3 and up need the technical limit or more; "
                              "from memory)"),
     "limit_findings": (f"{_OURS}: reaching the MTT is a warning as criticality class 3 is; a "
-                       "window that misses the process temperature is a caution"),
+                       "window that misses the process temperature is a caution; a figure "
+                       "whose 95 % interval crosses a boundary or limit is a warning"),
     "pressure_severity_bands": (f"{_OURS}: at or above the design pressure high, from 90 % of "
                                 "it medium (a 10 % margin below the relief set pressure is "
                                 "common practice, no source); Stoessel's 'low' severity also "
@@ -351,6 +370,13 @@ DEFAULT_SOURCES: Mapping[str, str] = MappingProxyType({
     "estimate_liquid_max_reduced_T": f"{_OURS}: the correlations diverge at the critical point",
     "estimate_max_heavy_atoms": f"{_OURS}: bounds the symmetry search",
     "estimate_disagreement_u": f"{_OURS}: about 95 % coverage for normal errors",
+    "uncertainty_samples": (f"{_OURS}: the ends of a 95 % interval to about 2 % of its "
+                            "half-width (standard error of a percentile of a normal sample)"),
+    "uncertainty_seed": f"{_OURS}: fixed, so that builds are repeatable",
+    "uncertainty_coverage": ("95 %, as the Active Thermochemical Tables state their "
+                             "uncertainties (B. Ruscic et al., J. Phys. Chem. A 108 (2004) "
+                             "9979-9997; from memory) and as ISO/IEC Guide 98-3 (GUM) "
+                             "expanded uncertainties are usually given"),
     "policy": "the name of the policy in force",
     "policy_sources": "the board's source for each value its policy changed",
 })

@@ -14,7 +14,7 @@ from typing import Any, Iterable, Mapping
 
 from dossier.chem.formula import hill_formula, parse_formula
 from dossier.chem.phases import PHASES, normalise_phase, split_phase
-from dossier.errors import FormulaError, LibraryError, SpeciesError
+from dossier.errors import FormulaError, LibraryError, SpeciesError, UnknownSpeciesError
 from dossier.library.datafile import (COL_ALIASES, COL_CAS, COL_FORMULA, COL_NAME, COL_PHASE,
                                       read_package_data, read_species_data, record_from_row)
 from dossier.library.record import SpeciesRecord
@@ -32,6 +32,13 @@ def _is_formula(text: str) -> bool:
     except FormulaError:
         return False
     return True
+
+
+#: The least similarity (0-100, rapidfuzz's ratio of the letters in common) at which a
+#: name counts as a match of a search that matches nothing exactly or in part: 85 lets
+#: a slip or two in a name of ten letters through ("nitrobenzne"), and keeps
+#: out names that merely share letters ("ethanol" and "methanal", 80).
+SEARCH_CUTOFF = 85.0
 
 
 class Library:
@@ -214,9 +221,12 @@ class Library:
                 return by_formula[0]
             if len(by_formula) > 1:
                 raise SpeciesError(_ambiguous_message(shown, by_formula))
-        raise SpeciesError(self._not_found_message(label, phase, parsed))
+        raise self._not_found(label, phase, parsed)
 
-    def _not_found_message(self, label: str, phase: str, parsed) -> str:
+    def _not_found(self, label: str, phase: str, parsed) -> UnknownSpeciesError:
+        """The error for a label no record answers, with the species of the same name or
+        formula in other phases, or else the nearest names in this phase (the best five
+        of :meth:`search` that are at least :data:`SEARCH_CUTOFF` alike)."""
         shown = f"{label}({phase})"
         other = [r for r in self._by_name(label) if r.phase != phase]
         if parsed is not None:
@@ -225,37 +235,39 @@ class Library:
                 if ph != phase:
                     other += self._by_formula(fkey, ph)
         if other:
-            ids = sorted({r.id for r in other})[:5]
-            return f"no library species '{shown}'; other phases exist: {', '.join(ids)}"
-        keys: dict[str, str] = {}
-        for sid, e in self._entries.items():
-            if isinstance(e, SpeciesRecord):
-                texts, ph = (e.name, e.formula, *e.aliases), e.phase
-            else:
-                texts, ph = (e[COL_NAME], e[COL_FORMULA], *e[COL_ALIASES]), e[COL_PHASE]
-            if ph != phase:
-                continue
-            for text in texts:
-                keys.setdefault(text.lower(), sid)
-        close = difflib.get_close_matches(label.lower(), list(keys), n=5, cutoff=0.6)
-        ids = list(dict.fromkeys(keys[c] for c in close))
+            ids = tuple(sorted({r.id for r in other})[:5])
+            return UnknownSpeciesError(f"no library species '{shown}'; other phases exist: "
+                                       f"{', '.join(ids)}", ids)
+        ids = tuple(sid for rank, _ph, _n, sid in self._ranked(label)
+                    if self._phase_of(sid) == phase and -rank[1] >= SEARCH_CUTOFF)[:5]
         if ids:
-            return f"no library species '{shown}'; did you mean: {', '.join(ids)}?"
-        return (f"no library species '{shown}'; add it to the case as a [[species]] entry "
-                f"with formula, phase, hf, s and cp")
+            return UnknownSpeciesError(f"no library species '{shown}'; did you mean: "
+                                       f"{', '.join(self._shown(i) for i in ids)}?", ids)
+        return UnknownSpeciesError(f"no library species '{shown}', and none with a "
+                                   "similar name in this phase")
 
-    def search(self, query: str) -> list[SpeciesRecord]:
-        """Records whose id, name, aliases, formula or CAS number contain ``query``.
+    def search(self, query: str, cutoff: float = SEARCH_CUTOFF) -> list[SpeciesRecord]:
+        """Records for ``query``, best first (see :func:`search_rank`); empty for a
+        blank query."""
+        return [self._materialise(x[-1]) for x in self._ranked(query, cutoff)]
 
-        Case-insensitive.  Ranked: exact matches first (a formula query also
-        matches by composition), then prefix matches, then other substrings;
-        within a rank gas, liquid, solid, aqueous, then shorter names first.
-        """
-        q = query.strip().lower()
+    def _shown(self, sid: str) -> str:
+        """A record's id, with its name first where the id does not hold it."""
+        rec = self._materialise(sid)
+        return sid if sid == f"{rec.name}({rec.phase})" else f"{rec.name} [{sid}]"
+
+    def _phase_of(self, sid: str) -> str:
+        e = self._entries[sid]
+        return e.phase if isinstance(e, SpeciesRecord) else e[COL_PHASE]
+
+    def _ranked(self, query: str, cutoff: float = SEARCH_CUTOFF) -> list[tuple]:
+        """(rank, phase order, name length, id) of every record that answers ``query``,
+        sorted."""
+        q = query.strip()
         if not q:
             return []
         try:
-            parsed = parse_formula(query.strip())
+            parsed = parse_formula(q)
             fkey: str | None = _formula_key(parsed.composition, parsed.charge)
         except FormulaError:
             fkey = None
@@ -268,18 +280,44 @@ class Library:
                 name, formula, aliases, cas, phase = (e[COL_NAME], e[COL_FORMULA], e[COL_ALIASES],
                                                       e[COL_CAS], e[COL_PHASE])
                 ekey = formula
-            lowered = [t.lower() for t in (sid, name, formula, *aliases, *((cas,) if cas else ()))]
-            if (fkey is not None and fkey == ekey) or q in lowered:
-                rank = 0
-            elif any(t.startswith(q) for t in lowered):
-                rank = 1
-            elif any(q in t for t in lowered):
-                rank = 2
-            else:
-                continue
-            ranked.append((rank, PHASES.index(phase), len(name), sid))
+            rank = search_rank(q, fkey == ekey if fkey is not None else False,
+                               (sid, name, *aliases), formula, cas, cutoff)
+            if rank is not None:
+                ranked.append((rank, PHASES.index(phase), len(name), sid))
         ranked.sort()
-        return [self._materialise(x[-1]) for x in ranked]
+        return ranked
+
+
+def search_rank(query: str, same_formula: bool, names: tuple[str, ...], formula: str,
+                cas: str | None, cutoff: float = SEARCH_CUTOFF) -> tuple | None:
+    """How well a record answers ``query``, as a sort key (smaller is better), or None.
+
+    ``names`` are the record's id, name and aliases.  In order: the same composition
+    as a formula query, or a name, CAS number or formula equal to the query in any
+    letter case (rank 0); a name that starts with the query (1) or holds it (2); a
+    name similar to the query (3, at least ``cutoff`` on rapidfuzz's ratio).  Within
+    ranks 1 to 3 the most similar name comes first.  A formula, and an id or alias that is one ("N2O4(g)"), is
+    matched only whole, so "N2O" is neither part of "C6H12N2O4S2" nor of "N2O4".
+    """
+    q = query.lower()
+    if same_formula or q == formula.lower() or (cas and q == cas.lower()) \
+            or any(q == t.lower() for t in names):
+        return (0, 0.0)
+    words = [t.lower() for t in names if not _reads_as_formula(t)]
+    if not words:
+        return None
+    from rapidfuzz import fuzz  # lazy: only a search needs it (about 18 ms)
+    best = max(fuzz.ratio(q, t) for t in words)
+    if any(t.startswith(q) for t in words):
+        return (1, -best)
+    if any(q in t for t in words):
+        return (2, -best)
+    return (3, -best) if best >= cutoff else None
+
+
+def _reads_as_formula(text: str) -> bool:
+    """True for a formula, with or without a phase ("N2O", "N2O4(g)")."""
+    return _is_formula(split_phase(text)[0] if split_phase(text)[1] else text)
 
 
 def _ambiguous_message(shown: str, matches: list[SpeciesRecord]) -> str:
@@ -295,4 +333,4 @@ def default_library() -> Library:
     return Library.from_json_bytes(read_package_data())
 
 
-__all__ = ["Library", "default_library"]
+__all__ = ["Library", "default_library", "search_rank", "SEARCH_CUTOFF"]

@@ -70,6 +70,13 @@ class ProfileRow:
     conversion: float
     extrapolated: bool
     requested: bool  # asked for with --at
+    # -- 95 % intervals from the stated uncertainties (assess/uncertainty.py) --
+    dH_low_kJ_mol: float | None = None
+    dH_high_kJ_mol: float | None = None
+    dG_low_kJ_mol: float | None = None
+    dG_high_kJ_mol: float | None = None
+    conversion_low: float | None = None
+    conversion_high: float | None = None
 
 
 @dataclass(frozen=True)
@@ -107,6 +114,8 @@ class Thermodynamics:
     solution_groups: tuple[tuple[str, str, str], ...] = ()  # (member, groups, origin)
     solution_note: str = ""
     solution_states: tuple[SolutionState, ...] = ()  # at the low and high ends of the window
+    #: 95 % interval of each crossover (K; None for an end beyond the scanned range).
+    crossover_intervals_K: tuple[tuple[float | None, float | None], ...] = ()
 
     @property
     def crossovers_in_window(self) -> tuple[Crossover, ...]:
@@ -138,6 +147,24 @@ class ScaleFigures:
 
 
 @dataclass(frozen=True)
+class Margin:
+    """How far a figure stays from the boundary or limit it is compared with (positive on
+    the side the figure is on nominally, in ``unit``), and the 95 % interval of that
+    distance.  Borderline when the interval includes zero."""
+
+    what: str                 # "MTSR below TD24"
+    unit: str
+    nominal: float
+    interval: tuple[float | None, float | None]
+    consequence: str          # what lies on the other side of the boundary
+
+    @property
+    def borderline(self) -> bool:
+        lo, hi = self.interval
+        return (lo is None or lo <= 0.0) and (hi is None or hi >= 0.0)
+
+
+@dataclass(frozen=True)
 class Safety:
     scale: ScaleFigures | None
     adiabatic_rise_K: float | None
@@ -165,6 +192,17 @@ class Safety:
     missing_inputs: tuple[str, ...]
     notes: tuple[str, ...]
     energetics: tuple["EnergeticScreen", ...] = ()
+    # -- 95 % intervals from the stated uncertainties (assess/uncertainty.py) ------
+    adiabatic_rise_interval_K: tuple[float | None, float | None] | None = None
+    mtsr_interval_K: tuple[float | None, float | None] | None = None
+    td24_interval_K: tuple[float | None, float | None] | None = None
+    tmrad_at_mtsr_interval_h: tuple[float | None, float | None] | None = None
+    pressure_at_mtsr_interval_bar: tuple[float | None, float | None] | None = None
+    #: (class, share of the draws), most likely first; empty without a class.
+    criticality_class_probabilities: tuple[tuple[int, float], ...] = ()
+    samples: int = 0
+    uncertain_inputs: tuple[str, ...] = ()  # what carried an uncertainty, in words
+    margins: tuple[Margin, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -177,6 +215,32 @@ class EnergeticScreen:
     screening_reason: str
     explosophores: tuple[str, ...]
     explosophore_note: str
+
+
+@dataclass(frozen=True)
+class VariantResult:
+    """A what-if of the case: what it changes, and its safety figures and findings."""
+
+    name: str
+    note: str
+    changes: tuple[tuple[str, str], ...]   # (case-file key, value as written)
+    safety: Safety
+    findings: tuple[Finding, ...]
+
+
+@dataclass(frozen=True)
+class Envelope:
+    """The criticality class over process temperature × accumulation, the other inputs
+    as the case gives them: ``classes[i][j]`` at ``T_K[j]`` and ``accumulation[i]``."""
+
+    T_K: tuple[float, ...]
+    accumulation: tuple[float, ...]
+    classes: tuple[tuple[int, ...], ...]
+    points: tuple[tuple[str, float, float], ...]  # (label, T_p in K, accumulation) to mark
+    #: The class boundaries as curves: (name, accumulation at each of ``T_K`` where the
+    #: MTSR reaches the level; above 1 where it is not reached) for "MTSR = MTT" and
+    #: "MTSR = TD24".
+    boundaries: tuple[tuple[str, tuple[float, ...]], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -196,6 +260,8 @@ class Assessment:
     cautions: tuple[str, ...]
     library_version: str
     tool_version: str
+    variants: tuple[VariantResult, ...] = ()
+    envelope: Envelope | None = None
 
     def to_dict(self) -> dict:
         """JSON-ready dict; the keys documented for ``dossier evaluate --json``."""
@@ -216,6 +282,7 @@ class Assessment:
             "crossover_K": [c.T for c in t.crossovers],
             "crossovers": [{"T_K": c.T, "direction": c.direction} for c in t.crossovers],
             "crossover_constant_properties_K": t.crossover_constant_K,
+            "crossover_intervals_K": [list(c) for c in t.crossover_intervals_K],
             "standard_298K": {"dH_kJ_mol": t.dH298_kJ_mol, "dS_J_molK": t.dS298_J_molK,
                               "dG_kJ_mol": t.dG298_kJ_mol},
             "favourable_in_window": t.favourable,
@@ -266,8 +333,47 @@ class Assessment:
                 "notes": list(s.notes),
                 "energetics": [_clean(asdict(e)) for e in s.energetics],
                 "findings": [f.to_dict() for f in self.findings],
+                **_uncertainty_dict(s),
             }
+        if self.variants:
+            out["variants"] = [_variant_dict(v) for v in self.variants]
         return _clean(out)
+
+
+def _variant_dict(v: VariantResult) -> dict[str, Any]:
+    s = v.safety
+    return {"name": v.name, "note": v.note,
+            "changes": [{"key": k, "value": val} for k, val in v.changes],
+            "adiabatic_rise_K": s.adiabatic_rise_K, "mtsr_K": s.mtsr_K, "td24_K": s.td24_K,
+            "tmrad_at_mtsr_h": s.tmrad_at_mtsr_h, "criticality_class": s.criticality_class,
+            "criticality_class_probabilities": {
+                str(k): p for k, p in s.criticality_class_probabilities},
+            "mtsr_interval_K": _pair(s.mtsr_interval_K), "severity": s.severity,
+            "probability": s.probability, "cooling_margin_kW": s.cooling_margin_kW,
+            "pressure_at_mtsr_bar": s.pressure_at_mtsr_bar,
+            "findings": [f.to_dict() for f in v.findings]}
+
+
+def _uncertainty_dict(s: Safety) -> dict[str, Any]:
+    """The safety figures' 95 % intervals, the class probabilities and the margins."""
+    return {
+        "adiabatic_rise_interval_K": _pair(s.adiabatic_rise_interval_K),
+        "mtsr_interval_K": _pair(s.mtsr_interval_K),
+        "td24_interval_K": _pair(s.td24_interval_K),
+        "tmrad_at_mtsr_interval_h": _pair(s.tmrad_at_mtsr_interval_h),
+        "pressure_at_mtsr_interval_bar": _pair(s.pressure_at_mtsr_interval_bar),
+        "criticality_class_probabilities": {
+            str(k): p for k, p in s.criticality_class_probabilities},
+        "samples": s.samples,
+        "uncertain_inputs": list(s.uncertain_inputs),
+        "margins": [{"what": m.what, "unit": m.unit, "nominal": m.nominal,
+                     "interval": list(m.interval), "borderline": m.borderline,
+                     "consequence": m.consequence} for m in s.margins],
+    }
+
+
+def _pair(value):
+    return None if value is None else list(value)
 
 
 def _solution_dict(t: Thermodynamics) -> dict[str, Any] | None:
@@ -303,4 +409,4 @@ def _clean(value):
 
 
 __all__ = ["Crossover", "SpeciesUse", "ProfileRow", "SolutionState", "Thermodynamics",
-           "ScaleFigures", "Safety", "EnergeticScreen", "Assessment"]
+           "ScaleFigures", "Margin", "Safety", "EnergeticScreen", "VariantResult", "Envelope", "Assessment"]

@@ -161,6 +161,19 @@ class Review:
 
 
 @dataclass(frozen=True)
+class Variant:
+    """A what-if: the case with a few inputs of [charge], [vessel], [decomposition] or
+    [measured] changed.  ``case`` is the whole case with the changes made (its own
+    ``variants`` empty); ``changes`` lists each changed key path with the value as the
+    file writes it."""
+
+    name: str
+    note: str
+    changes: tuple[tuple[str, str], ...]   # ("charge.feed_time", "2 h")
+    case: "Case"
+
+
+@dataclass(frozen=True)
 class Case:
     """One proposed reaction put before the review board."""
 
@@ -183,6 +196,13 @@ class Case:
     measured: Measured | None = None
     species: tuple[LocalSpecies, ...] = ()
     reviews: tuple[Review, ...] = ()
+    #: Safety inputs the case says do not apply, with the reason ([not_applicable]):
+    #: ("decomposition", "dilute aqueous salts ..."), in the schema's key order.
+    not_applicable: tuple[tuple[str, str], ...] = ()
+    #: Half-widths of the 95 % intervals of the values written with ±, by key path
+    #: ("charge.cp", J/(kg K)), in SI units.
+    uncertainty: tuple[tuple[str, float], ...] = ()
+    variants: tuple[Variant, ...] = ()
     narrative: str = ""                     # Markdown after the header, as written
     narrative_line: int = 1                 # file line where the narrative starts
     format_version: int = 1                 # the header's `format` key
@@ -193,6 +213,10 @@ class Case:
     def line_of(self, key: str) -> int | None:
         """Line of ``key`` (a key path) or of its nearest enclosing key."""
         return nearest_line(self.header_lines, key)
+
+    def half_width(self, key: str) -> float:
+        """The stated 95 % half-width of the value at ``key`` (SI), 0 when none is stated."""
+        return dict(self.uncertainty).get(key, 0.0)
 
 
 def nearest_line(lines: Mapping[str, int], key: str) -> int | None:

@@ -59,7 +59,7 @@ class RecordedReview:
     role: str
     date: str
     verdict: str
-    status: str  # "matches" | "changed since reviewed" | "no digest recorded"
+    status: str  # "matches" | "changed since reviewed" | "not checkable: no digest"
     explanation: str
 
 

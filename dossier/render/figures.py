@@ -20,12 +20,13 @@ from typing import TYPE_CHECKING, Sequence
 import numpy as np
 
 from dossier.constants import T_REF, ZERO_CELSIUS
+from dossier.render.alt_text import labelled_svg
 from dossier.temperature import kelvin_celsius
 
 if TYPE_CHECKING:  # pragma: no cover
     from dossier.engine.thermo import ReactionThermo
     from dossier.library.record import SpeciesRecord
-    from dossier.model.assessment import Crossover, ProfileRow, Safety
+    from dossier.model.assessment import Crossover, Envelope, ProfileRow, Safety
 
 # Our own calm, print-first palette: ink, one muted blue, greys.
 INK = "#1f2a33"
@@ -71,6 +72,11 @@ class Figure:
     columns: tuple[str, ...]
     rows: tuple[tuple[str, ...], ...]
     svg: str
+
+    def __post_init__(self) -> None:
+        # the SVG file names itself too, for a reader who opens it alone
+        object.__setattr__(self, "svg", labelled_svg(self.svg, self.title, self.alt))
+
 
 
 def _new_figure(width: float = 6.4, height: float = 3.4, top_axis: bool = True):
@@ -125,8 +131,23 @@ def gibbs_range(window: tuple[float, float], crossovers: Sequence["Crossover"] =
     return a, min(b, max(hi + span, 3000.0))
 
 
+def _band(profile: Sequence["ProfileRow"], low: str, high: str, scale: float = 1.0):
+    """(T, low, high) of a 95 % band from the profile rows, or None when the rows carry no
+    interval or it has no width."""
+    rows = [r for r in profile if getattr(r, low) is not None and getattr(r, high) is not None]
+    if not rows:
+        return None
+    T = np.array([r.T_K for r in rows])
+    lo = np.array([getattr(r, low) for r in rows]) * scale
+    hi = np.array([getattr(r, high) for r in rows]) * scale
+    if not np.any(hi - lo > 1e-9 * np.maximum(np.abs(hi), 1.0)):
+        return None
+    return T, lo, hi
+
+
 def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
-                 data_range: tuple[float, float], crossovers: Sequence["Crossover"]) -> Figure:
+                 data_range: tuple[float, float], crossovers: Sequence["Crossover"],
+                 profile: Sequence["ProfileRow"] = ()) -> Figure:
     """ΔrG°(T) over a range wider than the window: window shaded, zero line,
     crossovers marked, values outside the data range dashed."""
     a, b = gibbs_range(window, crossovers)
@@ -145,6 +166,10 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
         gin = np.where(inside, G, np.nan)
         # the dashed part includes the data-range ends, so it joins the solid line
         gout = np.where((T <= d_lo) | (T >= d_hi), G, np.nan)
+        band = _band(profile, "dG_low_kJ_mol", "dG_high_kJ_mol")
+        if band is not None:
+            ax.fill_between(band[0], band[1], band[2], color=BLUE, alpha=0.25, linewidth=0,
+                            zorder=2, label="95 % interval in the window")
         ax.plot(T, gin, color=BLUE, label=r"$\Delta_\mathrm{r}G^\circ$ within the data range")
         if np.any(~inside):
             ax.plot(T, gout, color=BLUE, linestyle=(0, (4, 3)),
@@ -185,7 +210,10 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
     caption = (f"Standard Gibbs energy of reaction against temperature, {a:.0f}–{b:.0f} K. "
                f"The shaded band is the operating window; the solid line lies within the "
                f"species data ({d_lo:.0f}–{d_hi:.0f} K), the dashed line is extrapolated. "
-               f"{cross}.")
+               f"{cross}."
+               + (" The darker band over the window is the 95 % interval from the stated "
+                  "uncertainties of the species data." if _band(profile, "dG_low_kJ_mol",
+                                                                  "dG_high_kJ_mol") else ""))
     return Figure("gibbs", "ΔG° against temperature", caption,
                   f"Line plot of ΔG° from {a:.0f} to {b:.0f} K. {cross}.",
                   ("T / K", "t / °C", "ΔG° / kJ mol⁻¹", "note"), tuple(rows), svg)
@@ -213,6 +241,12 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
         fig = _new_figure(6.4, 3.0)
         ax = fig.add_subplot()
         style = "steps-mid" if mode == "all-or-nothing" else "default"
+        band = _band(profile, "conversion_low", "conversion_high", 100.0)
+        if band is not None:
+            ax.fill_between(band[0], band[1], band[2], color=BLUE, alpha=0.25, linewidth=0,
+                            step="mid" if mode == "all-or-nothing" else None,
+                            label="95 % interval")
+            ax.legend(loc="best")
         ax.plot(T, X, color=BLUE, drawstyle=style, marker="o", markersize=2.5)
         ax.set_ylim(-3, 103)
         ax.set_xlim(T.min(), T.max()) if T.max() > T.min() else None
@@ -222,9 +256,15 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
         return _svg(fig)
 
     svg = _draw(draw)
+    banded = _band(profile, "conversion_low", "conversion_high") is not None
     rows = tuple((f"{r.T_K:.2f}", f"{r.T_K - ZERO_CELSIUS:.2f}", f"{r.conversion * 100:.2f}")
+                 + ((f"{r.conversion_low * 100:.2f} to {r.conversion_high * 100:.2f}",)
+                    if banded else ())
                  for r in profile)
     extra = f" {note}" if note else ""
+    if banded:
+        extra += (" The band is the 95 % interval from the stated uncertainties of the "
+                  "species data.")
     caption = (f"Equilibrium conversion of {basis} against temperature across the operating "
                f"window at {pressure_bar:g} bar, from a stoichiometric feed (see Methods)."
                f"{extra}")
@@ -232,7 +272,8 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
     return Figure("conversion", "Equilibrium conversion", caption,
                   f"Equilibrium conversion of {basis} between {lo:.1f} % and {hi:.1f} % "
                   f"over {T.min():.0f}–{T.max():.0f} K.",
-                  ("T / K", "t / °C", "conversion / %"), rows, svg)
+                  ("T / K", "t / °C", "conversion / %")
+                  + (("95 % interval / %",) if banded else ()), rows, svg)
 
 
 # --------------------------------------------------------------------------
@@ -464,10 +505,75 @@ def formula_svg(latex: str, fontsize: float = 10.0) -> str:
     return _draw(draw)
 
 
+#: Shades of the criticality classes 1..5 in the envelope, pale to dark (each class is
+#: also written on its region, so the map never relies on colour alone).
+CLASS_SHADES = ("#eef2f4", "#c9d6de", "#97afbf", "#5f8099", "#2c4a60")
+
+
+def envelope_figure(env: "Envelope", safety: "Safety") -> Figure:
+    """The criticality class over process temperature × accumulation, the case and its
+    variants marked."""
+    T, X = np.array(env.T_K), np.array(env.accumulation) * 100.0
+    K = np.array(env.classes)
+
+    def draw():
+        fig = _new_figure(6.4, 3.8)
+        ax = fig.add_subplot()
+        curves = {name: np.array(x) * 100.0 for name, x in env.boundaries}
+        mtt, td = curves["MTSR = MTT"], curves["MTSR = TD24"]
+        top = np.full(T.shape, 100.0)
+        if safety.mtt_K < safety.td24_K:   # classes 1, 3, 4 from the bottom up
+            layers = ((1, 0 * top, np.minimum(mtt, top)),
+                      (3, np.minimum(mtt, top), np.minimum(td, top)),
+                      (4, np.minimum(td, top), top))
+        else:                              # classes 2 and 5
+            layers = ((2, 0 * top, np.minimum(td, top)), (5, np.minimum(td, top), top))
+        for k, lo, hi in layers:
+            ax.fill_between(T, lo, hi, where=hi > lo, color=CLASS_SHADES[k - 1], linewidth=0,
+                            interpolate=True)
+            inner = slice(len(T) // 5, len(T) - len(T) // 5)  # labels clear of the edges
+            if np.any((hi - lo)[inner] > 5.0):
+                j = inner.start + int(np.argmax((hi - lo)[inner]))
+                ax.text(T[j], (lo[j] + hi[j]) / 2, f"class {k}", ha="center", va="center",
+                        color="white" if k >= 4 else INK, fontsize=8)
+        for name, x in curves.items():
+            ax.plot(T, np.where(x <= 100.0, x, np.nan), color=INK, linewidth=0.8,
+                    linestyle="-" if "TD24" in name else (0, (4, 2)), label=name)
+        ax.set_ylim(0.0, 100.0)
+        ax.set_xlim(T.min(), T.max())
+        ax.legend(loc="upper right", fontsize=7, framealpha=0.9)
+        for n, (label, tp, acc) in enumerate(env.points):
+            ax.plot([tp], [acc * 100.0], marker="o" if n == 0 else "s", markersize=6,
+                    markerfacecolor=INK if n == 0 else "white", markeredgecolor=INK, zorder=3)
+            ax.annotate(label, (tp, acc * 100.0), textcoords="offset points", xytext=(5, 4),
+                        color=INK, fontsize=8, zorder=3)
+        ax.set_xlabel("process temperature T / K")
+        ax.set_ylabel("accumulation / %")
+        _celsius_axis(ax)
+        return _svg(fig)
+
+    svg = _draw(draw)
+    rows = tuple((label, f"{tp:.2f}", f"{tp - ZERO_CELSIUS:.2f}", f"{acc * 100:.1f}",
+                  str(int(K[np.abs(X - acc * 100).argmin(), np.abs(T - tp).argmin()])))
+                 for label, tp, acc in env.points)
+    seen = sorted(set(K.flat) - {0})
+    caption = (f"Criticality class over process temperature ({T.min():.0f}–{T.max():.0f} K) "
+               "and accumulation (0–100 %), every other input as the case gives it: MTSR = "
+               f"T_p + X·ΔT_ad(T_p) against the MTT {kelvin_celsius(safety.mtt_K, 1)} and "
+               f"TD24 {kelvin_celsius(safety.td24_K, 1)}. The filled circle is this case, "
+               "the squares its variants (a variant that also changes other inputs has its own "
+               "class in the variants table).")
+    return Figure("envelope", "Operating envelope", caption,
+                  f"Map of criticality classes {', '.join(map(str, seen))} over process "
+                  f"temperature and accumulation, with this case and its variants marked.",
+                  ("point", "T / K", "t / °C", "accumulation / %", "class on the map"),
+                  rows, svg)
+
+
 def case_figures(thermo: "ReactionThermo", assessment) -> tuple[Figure, ...]:
     """All figures of one case, in page order."""
     t = assessment.thermo
-    figs = [gibbs_figure(thermo, t.window_K, t.data_range_K, t.crossovers),
+    figs = [gibbs_figure(thermo, t.window_K, t.data_range_K, t.crossovers, t.profile),
             conversion_figure(t.profile, t.pressure_bar, t.basis, t.equilibrium_mode,
                               t.equilibrium_note),
             entropy_figure(t.profile)]
@@ -475,8 +581,10 @@ def case_figures(thermo: "ReactionThermo", assessment) -> tuple[Figure, ...]:
         lad = ladder_figure(assessment.safety)
         if lad is not None:
             figs.append(lad)
+    if assessment.envelope is not None:
+        figs.append(envelope_figure(assessment.envelope, assessment.safety))
     return tuple(figs)
 
 
-__all__ = ["Figure", "case_figures", "conversion_figure", "entropy_figure", "formula_svg",
+__all__ = ["Figure", "CLASS_SHADES", "case_figures", "envelope_figure", "conversion_figure", "entropy_figure", "formula_svg",
            "gibbs_figure", "ladder_figure", "ladder_levels", "species_figure"]

@@ -16,9 +16,12 @@ GUIDE_PAGES = (("guide", "index", "User guide"),
 
 def guide_html(markdown_text: str) -> Markup:
     """The guide's Markdown as sanitised HTML, its links between documents made links
-    between pages (``case-format.md`` → ``case-format.html``)."""
-    return markdown_html(markdown_text, pages={doc: page for doc, page, _t in GUIDE_PAGES},
+    between pages (``case-format.md`` → ``case-format.html``).  Code blocks scroll
+    sideways rather than being clipped, so each can take the keyboard's focus
+    (``tabindex="0"``) and be scrolled without a mouse."""
+    html = markdown_html(markdown_text, pages={doc: page for doc, page, _t in GUIDE_PAGES},
                          heading_ids=True)
+    return Markup(str(html).replace("<pre>", '<pre tabindex="0">'))
 
 
 def render_guide_pages() -> dict[str, bytes]:

@@ -35,6 +35,8 @@ LINK_REL = "noopener noreferrer nofollow"
 _EXTENSIONS = ("tables", "fenced_code", "sane_lists")
 _HEADING_RE = re.compile(r"<(/?)h([1-6])\b", re.IGNORECASE)
 _PAGE_LINK_RE = re.compile(r"(?:docs/)?([a-z0-9-]+)\.md(#[\w-]+)?")
+_HEADING_BLOCK_RE = re.compile(r"<h([1-6])\b[^>]*>(.*?)</h\1>\s*", re.IGNORECASE | re.DOTALL)
+_TAG_RE = re.compile(r"<[^>]*>")
 
 
 def link_target(href: str, pages: Mapping[str, str]) -> str | None:
@@ -52,6 +54,30 @@ def link_target(href: str, pages: Mapping[str, str]) -> str | None:
     if v.lower().startswith(("https://", "http://", "mailto:")) or v.startswith("#"):
         return v
     return None
+
+
+def drop_empty_headings(html: str) -> str:
+    """``html`` without headings that head nothing: a heading with no text, or one
+    followed only by headings of its own level or above (or by the end), so that an
+    unfilled section of a narrative is not published as a bare title."""
+    heads = list(_HEADING_BLOCK_RE.finditer(html))
+    kept: list[re.Match] = []  # headings that stay, from the last one back
+    drop: list[re.Match] = []
+    for m in reversed(heads):
+        level = int(m.group(1))
+        after = kept[-1] if kept else None
+        between = html[m.end():after.start() if after else len(html)]
+        for d in drop:  # headings dropped already between this one and the next kept
+            between = between.replace(d.group(0), "", 1)
+        bare = not _TAG_RE.sub("", m.group(2)).strip()
+        heads_nothing = not between.strip() and (after is None or int(after.group(1)) <= level)
+        (drop if bare or heads_nothing else kept).append(m)
+    out, pos = [], 0
+    for m in sorted(drop, key=lambda d: d.start()):
+        out.append(html[pos:m.start()])
+        pos = m.end()
+    out.append(html[pos:])
+    return "".join(out)
 
 
 def markdown_html(text: str, *, pages: Mapping[str, str] | None = None,
@@ -80,9 +106,10 @@ def markdown_html(text: str, *, pages: Mapping[str, str] | None = None,
             return link_target(value, pages)
         return value
 
-    return Markup(nh3.clean(raw, tags=set(TAGS), clean_content_tags=REMOVED_WITH_CONTENT,
-                            attributes=ATTRIBUTES, attribute_filter=keep,
-                            url_schemes=URL_SCHEMES, link_rel=LINK_REL, strip_comments=True))
+    clean = nh3.clean(raw, tags=set(TAGS), clean_content_tags=REMOVED_WITH_CONTENT,
+                      attributes=ATTRIBUTES, attribute_filter=keep,
+                      url_schemes=URL_SCHEMES, link_rel=LINK_REL, strip_comments=True)
+    return Markup(drop_empty_headings(clean))
 
 
 def narrative_html(markdown_text: str) -> Markup:
@@ -90,4 +117,4 @@ def narrative_html(markdown_text: str) -> Markup:
     return markdown_html(markdown_text, heading_shift=2)
 
 
-__all__ = ["ATTRIBUTES", "TAGS", "link_target", "markdown_html", "narrative_html"]
+__all__ = ["ATTRIBUTES", "TAGS", "drop_empty_headings", "link_target", "markdown_html", "narrative_html"]

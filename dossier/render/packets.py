@@ -1,4 +1,4 @@
-"""PDF packets for the review board (weasyprint, PDF/A-3b).
+"""PDF packets for the review board (weasyprint, PDF/A-3a and PDF/UA-1, tagged).
 
 :func:`render_pdf` turns the HTML of a packet (made by :mod:`dossier.render.pages`)
 into PDF bytes.  It writes nothing: the stylesheet, figures and formula
@@ -8,9 +8,17 @@ other URL: the network, ``file:`` paths elsewhere, ``data:`` URLs and paths
 that climb out of the site with ``..``.  A packet therefore shows exactly
 what the site holds and nothing a case file could point at.
 
-Packets are PDF/A-3b (archival; the variant that allows attachments): each
-case packet carries its assessment as an attached JSON file, and the PDF's
-title, subject and keywords name the case and its revision.
+Packets are PDF/A-3a: archival, the part that allows attachments, at level
+A (accessible), for which weasyprint tags the document (a structure tree of
+headings, paragraphs, lists, tables and figures; page furniture as
+artefacts).  weasyprint takes one variant at a time; the PDF/UA-1
+identification (``pdfuaid:part``) is added to the same XMP metadata
+(:data:`UA_XMP`), since the tagging PDF/UA asks for is the tagging level A
+makes.  Each case packet carries its assessment as an attached JSON file,
+and the PDF's title, subject and keywords name the case and its revision.
+
+:func:`stamp_sheet` lays out the page numbers of an assembled meeting packet
+(:mod:`dossier.render.assembly`): one page per number, made once.
 
 weasyprint is imported only inside these functions.
 """
@@ -27,7 +35,21 @@ from typing import Mapping, Sequence
 #: It names no real place: the fetcher answers it from memory.
 ROOT_URL = "file:///dossier-site/"
 
-PDF_VARIANT = "pdf/a-3b"
+PDF_VARIANT = "pdf/a-3a"
+
+#: The PDF/UA-1 identification, added to the XMP metadata of every packet.
+UA_XMP = (b'<rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#">'
+          b'<rdf:Description rdf:about="" xmlns:pdfuaid="http://www.aiim.org/pdfua/ns/id/">'
+          b'<pdfuaid:part>1</pdfuaid:part></rdf:Description></rdf:RDF>')
+
+#: The page number stamped on each page of a meeting packet: below the case's own.
+STAMP_CSS = """
+@page { size: A4; margin: 0 18mm 6mm 20mm;
+  @bottom-right { content: "%s · page " counter(page) " of " counter(pages);
+    font-family: "Liberation Sans", "DejaVu Sans", sans-serif; font-size: 8pt;
+    font-weight: bold; color: #1f2a33; vertical-align: bottom; } }
+div { break-after: page; }
+"""
 
 _MIME = {".css": "text/css", ".svg": "image/svg+xml", ".png": "image/png",
          ".html": "text/html", ".json": "application/json", ".js": "text/javascript"}
@@ -148,7 +170,25 @@ def write_pdf(printed: Sequence[Printed], attachments: Sequence[PdfAttachment] =
         [page for p in printed for page in p.document.pages])
     atts = [Attachment(string=a.data, name=a.name, description=a.description,
                        url_fetcher=site_fetcher({}), relationship="Data") for a in attachments]
+    if variant == PDF_VARIANT and UA_XMP not in doc.metadata.xmp_metadata:
+        doc.metadata.xmp_metadata.append(UA_XMP)
     return doc.write_pdf(pdf_variant=variant, attachments=atts)
+
+
+def stamp_sheet(label: str, pages: int) -> bytes:
+    """``pages`` blank A4 pages, page i saying "<label> · page i of <pages>" at the foot.
+
+    Laid out once per meeting packet and laid over its pages by
+    :func:`dossier.render.assembly.assemble`; the label is escaped for CSS."""
+    from weasyprint import HTML
+
+    if pages < 1:
+        raise ValueError("a stamp sheet needs at least one page")
+    quoted = "".join(ch if ch.isalnum() or ch in " -·.,:" else f"\\{ord(ch):x} " for ch in label)
+    html_text = ('<!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><style>'
+                 + STAMP_CSS % quoted + "</style></head><body>"
+                 + "<div></div>" * (pages - 1) + "<p></p></body></html>")
+    return HTML(string=html_text, url_fetcher=site_fetcher({})).write_pdf()
 
 
 def render_pdf(html_text: str, page_path: str, files: Mapping[str, bytes],
@@ -160,4 +200,5 @@ def render_pdf(html_text: str, page_path: str, files: Mapping[str, bytes],
 
 
 __all__ = ["PDF_VARIANT", "PdfAttachment", "PdfResult", "Printed", "ROOT_URL", "RefusedURL",
-           "lay_out", "render_pdf", "site_fetcher", "site_path", "write_pdf"]
+           "STAMP_CSS", "UA_XMP", "lay_out", "render_pdf", "site_fetcher", "site_path",
+           "stamp_sheet", "write_pdf"]

@@ -41,11 +41,14 @@ from dossier.engine.estimate import BENSON_SOURCE, JOBACK_SOURCE, LIQUID_SOURCE
 from dossier.engine.settings import DEFAULT, POLICY_KEYS, MethodSettings
 from dossier.model.findings import SEVERITIES
 from dossier.render.chemistry import formula_html, key_html, reaction_html
+from dossier.render.export import CASE_TABLE_NAMES
 from dossier.render.markdown_html import narrative_html
 from dossier.render.maths import KIRCHHOFF, METHODS_MATH, kirchhoff_assets, mathml
+from dossier.render.intervals import class_text, interval_text, profile_banded, stated_text
 from dossier.render.numbers import num, pct, sig, sign_words, temp, unit, words
 from dossier.render.views import (FAVOURABLE_WORDS, CaseView, FailedCase, MeetingView,
-                                  SpeciesView, crossover_summary, review_record_status,
+                                  SpeciesView, approval_mark, crossover_summary,
+                                  open_conditions, review_record_status, signoff_roles,
                                   verdict_summary, worst_finding)
 
 OPEN_STATUSES = ("submitted", "draft")
@@ -66,14 +69,15 @@ def environment():
                              lstrip_blocks=True, keep_trailing_newline=True)
     env.filters.update(num=num, sig=sig, unit=unit, temp=temp, pct=pct, words=words,
                        reaction=reaction_html, key=key_html, formula=formula_html,
-                       math=mathml)
+                       math=mathml, within=interval_text)
     env.globals.update(
         SEVERITIES=SEVERITIES, FAVOURABLE_WORDS=FAVOURABLE_WORDS, verdict_summary=verdict_summary,
         crossover_summary=crossover_summary, worst_finding=worst_finding,
         review_record_status=review_record_status, sign_words=sign_words,
         narrative_html=narrative_html, KIRCHHOFF=KIRCHHOFF, kirchhoff_assets=kirchhoff_assets,
         ZERO_CELSIUS=ZERO_CELSIUS, PHASE_NAMES=PHASE_NAMES, cautions=CAUTIONS,
-        METHODS_MATH=METHODS_MATH)
+        METHODS_MATH=METHODS_MATH, class_text=class_text, stated_text=stated_text,
+        profile_banded=profile_banded, CSV_TABLES=CASE_TABLE_NAMES)
     return env
 
 
@@ -104,8 +108,10 @@ def content_policy(scripts: Iterable[str] = ()) -> str:
 # Pages
 
 def render_register(cases: Sequence[CaseView], failed: Sequence[FailedCase] = (),
-                    meetings: Sequence[MeetingView] = (), packets: bool = True) -> str:
-    """The register; ``packets`` says whether the PDF packets exist to be linked."""
+                    meetings: Sequence[MeetingView] = (), packets: bool = True,
+                    search: str = "") -> str:
+    """The register; ``packets`` says whether the PDF packets exist to be linked;
+    ``search`` is the site's search index (:mod:`dossier.render.search`), if any."""
     open_cases = sorted((c for c in cases if c.assessment.status in OPEN_STATUSES),
                         key=lambda c: (OPEN_STATUSES.index(c.assessment.status),
                                        c.assessment.meeting or "9999", c.id))
@@ -115,7 +121,7 @@ def render_register(cases: Sequence[CaseView], failed: Sequence[FailedCase] = ()
     script = template_text("filter.js")
     return render_template("register.html", root="", open_cases=open_cases, decided=decided,
                            failed=failed, meetings=meetings, count=len(cases),
-                           filter_script=script, packets=packets,
+                           filter_script=script, packets=packets, search_index=search,
                            csp=content_policy([script]), page_title="Register of cases")
 
 
@@ -207,8 +213,9 @@ SETTING_LABELS: dict[str, str] = {
     "severity_findings": "finding severity per severity level",
     "probability_findings": "finding severity per probability level",
     "criticality_findings": "finding severity per criticality class",
-    "limit_findings": "finding severity when the MTSR reaches the MTT, and when the process "
-                      "temperature is outside the window",
+    "limit_findings": "finding severity when the MTSR reaches the MTT, when the process "
+                      "temperature is outside the window, and when a figure's 95 % interval "
+                      "crosses a boundary or limit",
     "pressure_severity_bands": "severity on the pressure at the MTSR, as a ratio to the "
                                "design pressure",
     "policy": "policy in force",
@@ -231,6 +238,9 @@ SETTING_LABELS: dict[str, str] = {
     "estimate_liquid_max_reduced_T": "estimated liquid: highest reduced temperature accepted",
     "estimate_max_heavy_atoms": "estimates: most heavy atoms in a structure",
     "estimate_disagreement_u": "given and estimated values disagree beyond this many standard uncertainties",
+    "uncertainty_samples": "uncertainty: draws of the Monte Carlo propagation",
+    "uncertainty_seed": "uncertainty: seed of the draws (fixed, so builds repeat)",
+    "uncertainty_coverage": "uncertainty: coverage of every interval, and of every stated ± value",
 }
 
 
@@ -283,7 +293,9 @@ def render_case_packet(view: CaseView) -> str:
     a = view.assessment
     return render_template("packet_case.html", root="../", v=view, a=a, print_mode=True,
                            sources=method_sources(),
-                           page_title=f"{a.case_id}, revision {a.revision}")
+                           page_title=f"{a.case_id}, revision {a.revision}",
+                           mark=approval_mark(a), open_conditions=open_conditions(view),
+                           signoff=signoff_roles(view))
 
 
 def render_meeting_packet(meeting: MeetingView, starts: Sequence[int] = ()) -> str:
@@ -291,6 +303,7 @@ def render_meeting_packet(meeting: MeetingView, starts: Sequence[int] = ()) -> s
     (each case follows as its own packet)."""
     starts = tuple(starts) or (None,) * len(meeting.cases)
     return render_template("packet_meeting.html", root="../", m=meeting, starts=starts,
+                           approval_mark=approval_mark, open_conditions=open_conditions,
                            print_mode=True, page_title=f"Review meeting {meeting.date}")
 
 

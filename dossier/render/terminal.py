@@ -1,6 +1,7 @@
 """Plain-text rendering of an assessment for the terminal (`dossier evaluate`)."""
 from __future__ import annotations
 
+from dossier.render.intervals import class_text, interval_text, stated_text
 from dossier.model.assessment import Assessment, Safety, Thermodynamics
 from dossier.temperature import kelvin_celsius
 
@@ -73,12 +74,15 @@ def _safety_lines(s: Safety) -> list[str]:
         out.append(f"                           {sc.entropy_reading}")
     out.append(f"  adiabatic rise ΔT_ad     {_opt(s.adiabatic_rise_K, '.1f', 'K')}"
                + (f" (severity {s.severity})" if s.severity else ""))
-    out.append(f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}")
+    out.append(f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}"
+               + _within(s.mtsr_interval_K, "K"))
     out.append(f"  MTT                      {_T(s.mtt_K) if s.mtt_K else 'not given'}")
-    out.append(f"  TD24                     {_T(s.td24_K) + ' (' + s.td24_origin + ')' if s.td24_K else 'not assessed'}")
+    out.append(f"  TD24                     {_T(s.td24_K) + ' (' + s.td24_origin + ')' if s.td24_K else 'not assessed'}"
+               + _within(s.td24_interval_K, "K"))
     out.append(f"  TMRad at MTSR            {_opt(s.tmrad_at_mtsr_h, '.1f', 'h')}"
-               + (f" (probability {s.probability})" if s.probability else ""))
-    out.append(f"  criticality class        {s.criticality_class or 'not assessed'}")
+               + (f" (probability {s.probability})" if s.probability else "")
+               + _within(s.tmrad_at_mtsr_interval_h, "h"))
+    out.append(f"  criticality class        {class_text(s)}")
     out.append(f"  after decomposition      {_T(s.final_temperature_K) if s.final_temperature_K else 'not assessed'}")
     out.append(f"  cooling margin           {_opt(s.cooling_margin_kW, '.1f', 'kW')}")
     no_gas = sc is not None and sc.gas_mol <= 0
@@ -88,6 +92,28 @@ def _safety_lines(s: Safety) -> list[str]:
         out.append(f"  not assessed: {fig} — needs {', '.join(miss)}")
     for n in s.notes:
         out.append(f"  note: {n}")
+    if stated_text(s):
+        out.append(f"  uncertainty: {stated_text(s)}")
+    return out
+
+
+def _within(pair, unit: str) -> str:
+    text = interval_text(pair, unit)
+    return f"; {text}" if text else ""
+
+
+def _variant_lines(a: Assessment) -> list[str]:
+    """Each what-if variant in one block: what it changes, its class and key figures."""
+    out: list[str] = []
+    for v in a.variants:
+        s = v.safety
+        worst = max(v.findings, key=lambda f: f.rank).severity if v.findings else "none"
+        out += ["", f"Variant: {v.name}",
+                "  changes                  " + "; ".join(f"{k} = {val}" for k, val in v.changes),
+                f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}"
+                + _within(s.mtsr_interval_K, "K"),
+                f"  criticality class        {class_text(s)}",
+                f"  most severe finding      {worst}"]
     return out
 
 
@@ -119,6 +145,7 @@ def render_assessment(a: Assessment) -> str:
     out.extend(_thermo_lines(a.thermo))
     if a.safety is not None:
         out.extend(_safety_lines(a.safety))
+    out.extend(_variant_lines(a))
     out.extend(_finding_lines(a))
     return "\n".join(out)
 

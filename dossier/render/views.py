@@ -127,5 +127,50 @@ def review_record_status(review: "Review", integrity: "IntegrityRecord | None") 
     return "given on a different integrity record: the case or its data changed since"
 
 
+# --------------------------------------------------------------------------
+# What the packets' covers, agendas and sign-off sheets print
+
+#: The roles of a sign-off sheet besides those the case's verdicts name: the
+#: disciplines a process-safety review board usually seats (common practice, no source).
+DEFAULT_BOARD_ROLES = ("process safety (board chair)", "thermal hazards laboratory",
+                       "production engineering", "environment and occupational hygiene")
+
+#: The mark a packet carries until the board has accepted the case.
+APPROVAL_MARKS = {"draft": "DRAFT", "submitted": "NOT APPROVED", "declined": "NOT APPROVED",
+                  "withdrawn": "NOT APPROVED"}
+
+
+def approval_mark(a: "Assessment") -> str:
+    """"DRAFT" or "NOT APPROVED" until the case is accepted (with or without
+    conditions); "" once it is."""
+    return APPROVAL_MARKS.get(str(a.status), "")
+
+
+def open_conditions(v: CaseView) -> tuple[str, ...]:
+    """The open conditions of the case's current verdicts, one line each ("C1: text").
+
+    They come from the conditions tracked in the case's decisions
+    (:class:`~dossier.model.decisions.ConditionLine`, closed ones left out); a
+    view without decisions falls back to the conditions text of each verdict."""
+    if v.decisions is not None:
+        return tuple(f"{c.id}: {c.text}" for c in v.decisions.conditions if c.open)
+    return tuple(f"{r.conditions} ({r.name})" for r in v.reviews if r.conditions)
+
+
+def signoff_roles(v: CaseView) -> tuple[str, ...]:
+    """One line per board role on the sign-off sheet: the roles the case's verdicts
+    and signatures name, then the usual roles of a board not named yet."""
+    named = [r.role for r in v.reviews]
+    if v.decisions is not None:
+        named += [s.role for s in v.decisions.signatures]
+    roles: list[str] = []
+    for role in [*named, *DEFAULT_BOARD_ROLES]:
+        if role and role.strip().lower() not in {r.lower() for r in roles}:
+            roles.append(role.strip())
+    return tuple(roles)
+
+
 __all__ = ["CaseView", "FAVOURABLE_WORDS", "FailedCase", "MeetingView", "SpeciesView",
-           "crossover_summary", "review_record_status", "verdict_summary", "worst_finding"]
+           "crossover_summary", "review_record_status", "verdict_summary", "worst_finding",
+           "APPROVAL_MARKS", "DEFAULT_BOARD_ROLES", "approval_mark", "open_conditions",
+           "signoff_roles"]

@@ -42,9 +42,18 @@ from dossier.casefile.load import CaseSource, parse_source, read_source, signed_
 from dossier.engine.settings import MethodSettings
 from dossier.errors import LibraryError
 from dossier.library.lookup import Library
+from dossier.model.assessment import Assessment
+from dossier.model.case import Case
 from dossier.review.inputs import policy_settings, read_policy
+from dossier.review.revisions import key_figures
+from dossier.review.signatures import ReviewParts
+from dossier.review.verdicts import CurrentCase
 from dossier.model.integrity import (INTEGRITY_FORMAT, IntegrityRecord, RecordedReview,
                                      short_digest)
+
+#: Header keys left out of the case part besides ``review`` (which the loader's
+#: signed content leaves out): the closures of conditions, recorded like verdicts.
+UNSIGNED_RECORDS = ("closure",)
 
 def canonical_json(value: Any) -> str:
     """The canonical JSON text of ``value`` (see the module documentation).
@@ -123,7 +132,10 @@ def content_bytes(source: CaseSource) -> bytes:
     """The canonical JSON text (ASCII bytes) of what a signature on the case covers:
     :func:`dossier.casefile.load.signed_content`, with TOML dates and times written
     as tagged ISO text so that they never collide with a string of the same text."""
-    return canonical_json(_toml_plain(signed_content(source))).encode("ascii")
+    content = signed_content(source)
+    for name in UNSIGNED_RECORDS:
+        content["header"].pop(name, None)
+    return canonical_json(_toml_plain(content)).encode("ascii")
 
 
 def _toml_plain(value: Any) -> Any:
@@ -136,6 +148,30 @@ def _toml_plain(value: Any) -> Any:
     return value
 
 
+def review_parts(record: IntegrityRecord, settings: MethodSettings,
+                 method_libraries: Iterable[tuple[str, str]]) -> ReviewParts:
+    """The parts of ``record`` a ``dossier-review-2`` block signs: the case content,
+    one digest of the species list, the method settings without the method
+    libraries, and every version as one line (docs/signatures.md)."""
+    species = [[sid, d] for sid, d in record.species_digests]
+    versions = [("library", record.library_version), ("dossier", record.tool_version)]
+    versions += sorted(method_libraries)
+    return ReviewParts(
+        content=record.case_file_digest,
+        species=sha256_hex(canonical_json(species).encode("ascii")),
+        settings=sha256_hex(canonical_json(settings.record()).encode("ascii")),
+        versions="; ".join(f"{name} {str(v).replace(' ', '-')}" for name, v in versions))
+
+
+def current_case(record: IntegrityRecord, revision: int, assessment: Assessment,
+                 settings: MethodSettings,
+                 method_libraries: Iterable[tuple[str, str]]) -> CurrentCase:
+    """The case as it is now, for judging verdicts: digest, revision, parts and the
+    key figures of its assessment."""
+    return CurrentCase(record.digest, revision, review_parts(record, settings, method_libraries),
+                       tuple(key_figures(assessment).items()))
+
+
 def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview, ...]:
     """Compare the digest each recorded verdict names with the case as it is now.
 
@@ -146,7 +182,7 @@ def check_recorded_reviews(reviews, current_digest: str) -> tuple[RecordedReview
     for r in reviews:
         recorded = (r.digest or "").replace(" ", "").lower()
         if not recorded:
-            status = "no digest recorded"
+            status = "not checkable: no digest"
             why = ("the verdict does not name the digest it accepted, so it cannot be tied to "
                    "this revision's data")
         elif len(recorded) >= 12 and current_digest.startswith(recorded):
@@ -182,14 +218,33 @@ def digest_for_case(case_path: str | Path, library: Library | None = None,
     Reads the file once and assesses it (with the shipped library unless one is
     given), so the record covers what the assessment used and nothing else.
     """
-    source = read_source(case_path)
+    _, record, case, _ = assess_for_review(case_path, library, settings)
+    return record, case.revision, case.id
+
+
+def assess_for_review(case_path: str | Path, library: Library | None = None,
+                      settings: MethodSettings | None = None
+                      ) -> tuple[CaseSource, IntegrityRecord, Case, CurrentCase]:
+    """The source read once, its integrity record, the parsed case and the case as
+    verdicts are judged against (:class:`CurrentCase`) of the case file at
+    ``case_path``."""
+    return assess_source_for_review(read_source(case_path), library, settings)
+
+
+def assess_source_for_review(source: CaseSource, library: Library | None = None,
+                             settings: MethodSettings | None = None
+                             ) -> tuple[CaseSource, IntegrityRecord, Case, CurrentCase]:
+    """:func:`assess_for_review` of a case file read already."""
     case = parse_source(source)
     if settings is None:  # the board's policy of the case's folder, as the build uses
         settings = policy_settings(read_policy(source.path.parent))
     evaluation = evaluate(case, library or Library.default(), settings=settings)
-    return integrity_of(source, evaluation), case.revision, case.id
+    record = integrity_of(source, evaluation)
+    return source, record, case, current_case(record, case.revision, evaluation.assessment,
+                                              settings, evaluation.method_libraries)
 
 
 __all__ = ["canonical_json", "sha256_hex", "case_digest", "content_bytes",
            "check_recorded_reviews", "integrity_of", "digest_for_case", "IntegrityRecord",
+           "UNSIGNED_RECORDS", "review_parts", "current_case", "assess_for_review", "assess_source_for_review",
            "RecordedReview", "INTEGRITY_FORMAT", "short_digest"]

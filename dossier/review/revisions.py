@@ -59,8 +59,9 @@ def flatten(header: Mapping[str, Any], prefix: str = "") -> dict[str, str]:
     return out
 
 
-#: Header keys that change with every revision by design, or belong to reviews.
-_IGNORED = re.compile(r"^(revision|review\[\d+\](\..*)?)$")
+#: Header keys that change with every revision by design, or belong to reviews
+#: and closures of conditions.
+_IGNORED = re.compile(r"^(revision|(review|closure)\[\d+\](\..*)?)$")
 
 
 def input_changes(old_header: Mapping[str, Any], new_header: Mapping[str, Any],

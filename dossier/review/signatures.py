@@ -1,4 +1,4 @@
-"""Signed reviews: the per-case signature files and their verification.
+"""Signed reviews: the per-case signature files, their formats and signing.
 
 A reviewer's verdict on a revision of a case is recorded as a *signed
 review*: a short block of ``name: value`` lines holding the case id, the
@@ -9,6 +9,12 @@ to ``cases/<id>.signatures``; the keys (and the board's list of keys it
 trusts, ``cases/trusted-keys.txt``) are :mod:`dossier.review.keys`.  Both
 formats are documented in ``docs/signatures.md``.
 
+Two block formats are read: ``dossier-review-1`` (the whole digest) and
+``dossier-review-2`` (also the digest's parts, the versions and key figures
+the signer saw, conditions with ids, withdrawals).  Checking blocks against
+the case as it is now, and which verdict of a signer is current, is
+:mod:`dossier.review.verdicts`.
+
 The cryptography is the ``cryptography`` package's Ed25519 (RFC 8032); this
 module only formats, parses and compares.  I/O is confined to the functions
 named ``load_*``, ``append_*`` and :func:`sign_review`.
@@ -18,11 +24,12 @@ from __future__ import annotations
 import base64
 import datetime
 import difflib
+import json
 import os
 import re
 from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Iterable, Literal
+from typing import Iterable, Mapping
 
 from cryptography.exceptions import InvalidSignature
 from cryptography.hazmat.primitives.asymmetric.ed25519 import (Ed25519PrivateKey,
@@ -30,7 +37,7 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import (Ed25519PrivateKey
 
 from dossier.errors import Problem, SignatureError
 from dossier.model.case import Verdict
-from dossier.review.keys import (PUBLIC_KEY_BYTES, TRUSTED_KEYS_FILE, TrustedKey, bad_char,
+from dossier.review.keys import (PUBLIC_KEY_BYTES, bad_char,
                                  decode_b64, decode_utf8, field_text_problem, load_private_key,
                                  public_key_text, show_text, write_all)
 
@@ -39,30 +46,74 @@ try:
 except ImportError:  # pragma: no cover - not POSIX
     fcntl = None  # type: ignore[assignment]
 
-#: Value of the ``format`` line that opens every signed review.
+#: Value of the ``format`` line that opens a signed review of the first format
+#: (the whole digest only; conditions as one line of text).
 SIGNATURE_FORMAT = "dossier-review-1"
+
+#: The second format: the digest's parts, the versions and the key figures the
+#: signer saw, conditions with ids, a note; a verdict may be ``withdrawn``.
+SIGNATURE_FORMAT_2 = "dossier-review-2"
 
 #: The fields of a signed review, in the order they are written.
 FIELDS = ("format", "case", "revision", "digest", "signer", "role", "date",
           "verdict", "conditions", "key", "signature")
+
+#: The fields of a ``dossier-review-2`` block, in the order they are written.
+FIELDS_2 = ("format", "case", "revision", "digest", "content", "species", "settings",
+            "versions", "figures", "signer", "role", "date", "verdict", "conditions", "note",
+            "key", "signature")
+
+FIELDS_BY_FORMAT = {SIGNATURE_FORMAT: FIELDS, SIGNATURE_FORMAT_2: FIELDS_2}
 
 #: The fields covered by the signature (all but the signature itself).
 SIGNED_FIELDS = FIELDS[:-1]
 
 VERDICTS = tuple(v.value for v in Verdict)
 
+#: What a signer records to take back their verdict (format 2 only).
+WITHDRAWN = "withdrawn"
+VERDICTS_2 = VERDICTS + (WITHDRAWN,)
+
 SIGNATURES_SUFFIX = ".signatures"
 
 SIGNATURE_BYTES = 64
 
-Status = Literal["valid", "changed-since-signed", "untrusted-key", "invalid"]
-STATUSES: tuple[Status, ...] = ("valid", "changed-since-signed", "untrusted-key", "invalid")
-
-_ORDER_HINT = "the fields of a signed review are " + ", ".join(FIELDS) + ", in this order"
 _FIELD_RE = re.compile(r"([a-z]+):(?: (.*))?", re.DOTALL)
 _REVISION_RE = re.compile(r"[1-9][0-9]{0,8}")
 _DIGEST_RE = re.compile(r"[0-9a-f]{64}")
 _DATE_RE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
+_CONDITION_ID_RE = re.compile(r"C[1-9][0-9]{0,3}")
+_VERSIONS_RE = re.compile(r"[A-Za-z0-9_.+-]+ [^ ;]+(?:; [A-Za-z0-9_.+-]+ [^ ;]+)*")
+
+
+@dataclass(frozen=True)
+class ReviewParts:
+    """The parts of a case's integrity record that a ``dossier-review-2`` block signs,
+    so that a later check can say which part changed (see docs/signatures.md)."""
+
+    content: str    # the case as the loader reads it (the manifest's "case")
+    species: str    # SHA-256 of the canonical JSON of the manifest's species list
+    settings: str   # SHA-256 of the method settings (board policy included), libraries left out
+    versions: str   # "library <v>; dossier <v>[; <method library> <v> ...]"
+
+    def version_pairs(self) -> tuple[tuple[str, str], ...]:
+        return parse_versions(self.versions)
+
+
+def parse_versions(text: str) -> tuple[tuple[str, str], ...]:
+    """``"library 1; dossier 2"`` -> ``(("library", "1"), ("dossier", "2"))``."""
+    return tuple(tuple(item.split(" ", 1)) for item in text.split("; ") if item)  # type: ignore[misc]
+
+
+def conditions_text(conditions: Iterable[tuple[str, str]]) -> str:
+    """The ``conditions`` value of a format-2 block: a JSON list of ``[id, text]``."""
+    items = [[cid, text] for cid, text in conditions]
+    return json.dumps(items, ensure_ascii=False, separators=(",", ":")) if items else ""
+
+
+def figures_text(figures: Mapping[str, str]) -> str:
+    """The ``figures`` value of a format-2 block: a JSON object, keys sorted."""
+    return json.dumps(dict(figures), ensure_ascii=False, sort_keys=True, separators=(",", ":"))
 
 
 @dataclass(frozen=True)
@@ -81,44 +132,65 @@ class SignedReview:
     signature: str              # standard base64 of the Ed25519 signature
     format: str = SIGNATURE_FORMAT
     line: int = field(default=0, compare=False)  # first line of the block in its file
+    # Format 2 only ("" in format 1):
+    content: str = ""
+    species: str = ""
+    settings: str = ""
+    versions: str = ""
+    figures: str = ""           # JSON object of the key figures the signer saw
+    note: str = ""              # the reason of a withdrawal or of a decline
+
+    @property
+    def fields(self) -> tuple[str, ...]:
+        return FIELDS_BY_FORMAT.get(self.format, FIELDS)
+
+    @property
+    def parts(self) -> ReviewParts | None:
+        """The signed parts of the integrity record (None in format 1)."""
+        if self.format != SIGNATURE_FORMAT_2:
+            return None
+        return ReviewParts(self.content, self.species, self.settings, self.versions)
+
+    @property
+    def condition_list(self) -> tuple[tuple[str, str], ...]:
+        """``(id, text)`` per condition; a format-1 condition has the id ``""``."""
+        if not self.conditions:
+            return ()
+        if self.format != SIGNATURE_FORMAT_2:
+            return (("", self.conditions),)
+        return tuple((cid, text) for cid, text in json.loads(self.conditions))
+
+    @property
+    def figure_map(self) -> dict[str, str]:
+        return dict(json.loads(self.figures)) if self.figures else {}
 
     def _values(self) -> dict[str, str]:
         return {
             "format": self.format, "case": self.case, "revision": str(self.revision),
-            "digest": self.digest, "signer": self.signer, "role": self.role,
+            "digest": self.digest, "content": self.content, "species": self.species,
+            "settings": self.settings, "versions": self.versions, "figures": self.figures,
+            "signer": self.signer, "role": self.role,
             "date": self.date.isoformat(), "verdict": self.verdict,
-            "conditions": self.conditions, "key": self.key, "signature": self.signature,
+            "conditions": self.conditions, "note": self.note, "key": self.key,
+            "signature": self.signature,
         }
 
     def signed_bytes(self) -> bytes:
-        """The message the signature covers: the block's first ten lines, UTF-8, each ending in LF."""
+        """The message the signature covers: every line of the block but the last
+        (the signature), UTF-8, each ending in LF."""
         values = self._values()
         return "".join(_field_line(name, values[name]) + "\n"
-                       for name in SIGNED_FIELDS).encode("utf-8")
+                       for name in self.fields[:-1]).encode("utf-8")
 
     def to_text(self) -> str:
         """The block as written in the ``.signatures`` file (without the separating empty line)."""
         return self.signed_bytes().decode("utf-8") + _field_line("signature", self.signature) + "\n"
 
     def to_dict(self) -> dict[str, object]:
-        values: dict[str, object] = self._values()
+        everything = self._values()
+        values: dict[str, object] = {name: everything[name] for name in self.fields}
         values["revision"] = self.revision
         return values
-
-
-@dataclass(frozen=True)
-class ReviewStatus:
-    """The outcome of checking one signed review against the case as it is now."""
-
-    review: SignedReview
-    status: Status
-    explanation: str                    # plain words, for the table and the pages
-    revision_older: bool = False        # the review is for an earlier revision than the current one
-    trusted_key: TrustedKey | None = None
-
-    @property
-    def valid(self) -> bool:
-        return self.status == "valid"
 
 
 # --------------------------------------------------------------------------
@@ -130,19 +202,28 @@ def _field_line(name: str, value: str) -> str:
     return f"{name}: {value}" if value else f"{name}:"
 
 
-def _value_problem(name: str, value: str) -> str | None:
-    """What is wrong with ``value`` for field ``name``, or None."""
+_MAY_BE_EMPTY = ("conditions", "note")
+
+
+def _value_problem(name: str, value: str, fmt: str = SIGNATURE_FORMAT) -> str | None:
+    """What is wrong with ``value`` for field ``name`` of a block in format ``fmt``, or None."""
     problem = field_text_problem(name, value)
     if problem:
         return problem
     if not value:
-        return None if name == "conditions" else f"'{name}' is empty"
-    if name == "format" and value != SIGNATURE_FORMAT:
-        return f"unknown format '{value}'; this version of dossier reads '{SIGNATURE_FORMAT}'"
+        return None if name in _MAY_BE_EMPTY else f"'{name}' is empty"
+    if name == "format" and value not in FIELDS_BY_FORMAT:
+        return (f"unknown format '{value}'; this version of dossier reads "
+                f"'{SIGNATURE_FORMAT}' and '{SIGNATURE_FORMAT_2}'")
+    if fmt == SIGNATURE_FORMAT_2:
+        problem = _value_problem_2(name, value)
+        if problem != "":
+            return problem
     if name == "revision" and not _REVISION_RE.fullmatch(value):
         return f"revision {show_text(value)} is not a whole number of 1 or more"
-    if name == "digest" and not _DIGEST_RE.fullmatch(value):
-        return f"digest {show_text(value)} is not 64 lowercase hexadecimal characters (SHA-256)"
+    if name in ("digest", "content", "species", "settings") and not _DIGEST_RE.fullmatch(value):
+        return (f"{name} {show_text(value)} is not 64 lowercase hexadecimal characters "
+                "(SHA-256)")
     if name == "date":
         try:
             if not _DATE_RE.fullmatch(value):
@@ -159,7 +240,53 @@ def _value_problem(name: str, value: str) -> str | None:
     return None
 
 
-def _verdict_problem(verdict: str, conditions: str) -> str | None:
+def _value_problem_2(name: str, value: str) -> str | None:
+    """The checks of format 2's own fields: None when fine, "" when not one of them."""
+    if name == "versions":
+        return None if _VERSIONS_RE.fullmatch(value) else (
+            f"versions {show_text(value)} is not '<name> <version>' pairs separated by '; '")
+    if name == "verdict":
+        return None if value in VERDICTS_2 else (
+            f"verdict {show_text(value)} is not one of {', '.join(VERDICTS_2)}")
+    if name == "figures":
+        try:
+            figures = json.loads(value)
+        except ValueError:
+            figures = None
+        ok = isinstance(figures, dict) and all(isinstance(v, str) for v in figures.values())
+        return None if ok else f"figures {show_text(value)} is not a JSON object of texts"
+    if name == "conditions":
+        return _conditions_problem(value)
+    return ""
+
+
+def _conditions_problem(value: str) -> str | None:
+    try:
+        items = json.loads(value)
+    except ValueError:
+        items = None
+    if not isinstance(items, list) or not all(
+            isinstance(i, list) and len(i) == 2 and all(isinstance(x, str) for x in i)
+            for i in items):
+        return f"conditions {show_text(value)} is not a JSON list of [id, text] pairs"
+    seen = set()
+    for cid, text in items:
+        if not _CONDITION_ID_RE.fullmatch(cid):
+            return f"condition id {show_text(cid)} is not C followed by a number (C1, C2, ...)"
+        if cid in seen:
+            return f"condition id '{cid}' is given twice"
+        seen.add(cid)
+        problem = field_text_problem(f"condition {cid}", text)
+        if problem or not text:
+            return problem or f"condition {cid} has no text"
+    return None
+
+
+def _verdict_problem(verdict: str, conditions: str, note: str = "") -> str | None:
+    if verdict == WITHDRAWN and conditions:
+        return "a withdrawal has no conditions; give the reason as the note"
+    if verdict == WITHDRAWN and not note:
+        return "a withdrawal needs its reason (the note)"
     if verdict == "accepted-with-conditions" and not conditions:
         return "verdict 'accepted-with-conditions' needs the conditions"
     if verdict == "accepted" and conditions:
@@ -234,45 +361,51 @@ def _parse_block(block: list[tuple[int, str]], filename: str,
         fields.append((number, name, value or ""))
     if len(problems) > before:
         return None
+    order = FIELDS
+    if fields and fields[0][1] == "format" and fields[0][2] in FIELDS_BY_FORMAT:
+        order = FIELDS_BY_FORMAT[fields[0][2]]
+    hint = "the fields of a signed review are " + ", ".join(order) + ", in this order"
 
-    for index, expected in enumerate(FIELDS):
+    for index, expected in enumerate(order):
         if index == len(fields):
             problems.append(Problem(f"field '{expected}' is missing after '{fields[-1][1]}'; "
-                                    f"{_ORDER_HINT}", filename, fields[-1][0]))
+                                    f"{hint}", filename, fields[-1][0]))
             return None
         number, name, _ = fields[index]
         if name != expected:
-            if name in FIELDS:
-                message = f"field '{name}' found where '{expected}' belongs; {_ORDER_HINT}"
+            if name in order:
+                message = f"field '{name}' found where '{expected}' belongs; {hint}"
             else:
-                close = difflib.get_close_matches(name, FIELDS, n=1)
-                hint = f"; did you mean '{close[0]}'?" if close else f"; {_ORDER_HINT}"
-                message = f"unknown field '{name}'{hint}"
+                close = difflib.get_close_matches(name, order, n=1)
+                message = (f"unknown field '{name}'"
+                           + (f"; did you mean '{close[0]}'?" if close else f"; {hint}"))
             problems.append(Problem(message, filename, number))
             return None
-    if len(fields) > len(FIELDS):
-        problems.append(Problem(f"field '{fields[len(FIELDS)][1]}' after 'signature'; every "
+    if len(fields) > len(order):
+        problems.append(Problem(f"field '{fields[len(order)][1]}' after 'signature'; every "
                                 "review ends with its signature line, followed by an empty line",
-                                filename, fields[len(FIELDS)][0]))
+                                filename, fields[len(order)][0]))
         return None
 
     values = {}
+    fmt = fields[0][2]
     for number, name, value in fields:
-        problem = _value_problem(name, value)
+        problem = _value_problem(name, value, fmt)
         if problem:
             problems.append(Problem(problem, filename, number))
         values[name] = value
-    problem = _verdict_problem(values["verdict"], values["conditions"])
+    problem = _verdict_problem(values["verdict"], values["conditions"], values.get("note", ""))
     if problem:
-        problems.append(Problem(problem, filename, fields[FIELDS.index("conditions")][0]))
+        problems.append(Problem(problem, filename, fields[order.index("conditions")][0]))
     if len(problems) > before:
         return None
+    extra = {name: values[name] for name in FIELDS_2 if name not in FIELDS and name in values}
     return SignedReview(
         case=values["case"], revision=int(values["revision"]), digest=values["digest"],
         signer=values["signer"], role=values["role"],
         date=datetime.date.fromisoformat(values["date"]), verdict=values["verdict"],
         conditions=values["conditions"], key=values["key"], signature=values["signature"],
-        format=values["format"], line=block[0][0])
+        format=values["format"], line=block[0][0], **extra)
 
 
 def load_signatures(path: str | Path) -> tuple[SignedReview, ...]:
@@ -291,24 +424,47 @@ def load_signatures(path: str | Path) -> tuple[SignedReview, ...]:
 
 
 def make_review(private_key: Ed25519PrivateKey, case_id: str, revision: int, digest: str,
-                signer: str, role: str, verdict: str, conditions: str,
-                date: datetime.date) -> SignedReview:
-    """A review signed with ``private_key`` (pure: no files)."""
+                signer: str, role: str, verdict: str,
+                conditions: str | Iterable[tuple[str, str]], date: datetime.date, *,
+                parts: ReviewParts | None = None, figures: Mapping[str, str] | None = None,
+                note: str = "") -> SignedReview:
+    """A review signed with ``private_key`` (pure: no files).
+
+    Without ``parts`` the block is written in format 1 (``conditions`` one line
+    of text).  With them it is format 2: ``conditions`` are ``(id, text)``
+    pairs, ``figures`` the key figures the signer saw, ``note`` the reason of a
+    withdrawal or decline.
+    """
     if isinstance(revision, bool) or not isinstance(revision, int):
         raise SignatureError(Problem(f"revision {revision!r} is not a whole number", key="revision"))
     if not isinstance(date, datetime.date) or isinstance(date, datetime.datetime):
         raise SignatureError(Problem(f"date {date!r} is not a calendar date", key="date"))
-    if not all(isinstance(v, str) for v in (case_id, digest, signer, role, verdict, conditions)):
+    if parts is None:
+        if not isinstance(conditions, str) or note or figures:
+            raise SignatureError("a format-1 review takes its conditions as one text and no "
+                                 "note or figures; give the parts for format 2")
+        extra: dict[str, str] = {}
+        fmt = SIGNATURE_FORMAT
+    else:
+        if isinstance(conditions, str):
+            raise SignatureError("a format-2 review takes its conditions as (id, text) pairs")
+        conditions = conditions_text(conditions)
+        extra = {"content": parts.content, "species": parts.species,
+                 "settings": parts.settings, "versions": parts.versions,
+                 "figures": figures_text(figures or {}), "note": note}
+        fmt = SIGNATURE_FORMAT_2
+    if not all(isinstance(v, str) for v in (case_id, digest, signer, role, verdict, conditions,
+                                             *extra.values())):
         raise SignatureError("case id, digest, signer, role, verdict and conditions must be text")
     review = SignedReview(case=case_id, revision=revision, digest=digest, signer=signer,
                           role=role, date=date, verdict=verdict, conditions=conditions,
-                          key=public_key_text(private_key), signature="")
+                          key=public_key_text(private_key), signature="", format=fmt, **extra)
     values = review._values()
-    for name in SIGNED_FIELDS:
-        problem = _value_problem(name, values[name])
+    for name in review.fields[:-1]:
+        problem = _value_problem(name, values[name], fmt)
         if problem:
             raise SignatureError(Problem(problem, key=name))
-    problem = _verdict_problem(verdict, conditions)
+    problem = _verdict_problem(verdict, review.conditions, note)
     if problem:
         raise SignatureError(Problem(problem, key="conditions"))
     signature = private_key.sign(review.signed_bytes())
@@ -317,10 +473,11 @@ def make_review(private_key: Ed25519PrivateKey, case_id: str, revision: int, dig
 
 def sign_review(private_key_path: str | Path, case_id: str, revision: int, digest: str,
                 signer: str, role: str, verdict: str, conditions: str,
-                date: datetime.date) -> SignedReview:
+                date: datetime.date, **format_2) -> SignedReview:
     """A review signed with the private key in ``private_key_path``."""
     key = load_private_key(private_key_path)
-    return make_review(key, case_id, revision, digest, signer, role, verdict, conditions, date)
+    return make_review(key, case_id, revision, digest, signer, role, verdict, conditions, date,
+                       **format_2)
 
 
 def _read_all(fd: int) -> bytes:
@@ -379,71 +536,9 @@ def _lock(fd: int) -> None:
         fcntl.flock(fd, fcntl.LOCK_EX)
 
 
-# --------------------------------------------------------------------------
-# Verification
-# --------------------------------------------------------------------------
-
-
-def verify_reviews(reviews: Iterable[SignedReview], trusted_keys: Iterable[TrustedKey],
-                   current_digest: str, current_revision: int,
-                   case_id: str | None = None) -> tuple[ReviewStatus, ...]:
-    """The status of every review against the case as it is now.
-
-    ``case_id``, when given, is the case whose signatures file holds the
-    reviews; a review signed for another case is then "invalid".
-    """
-    by_key = {k.key: k for k in trusted_keys}
-    return tuple(_review_status(r, by_key, current_digest, current_revision, case_id)
-                 for r in reviews)
-
-
-def _review_status(review: SignedReview, by_key: dict[str, TrustedKey], current_digest: str,
-                   current_revision: int, case_id: str | None) -> ReviewStatus:
-    key, _ = decode_b64(review.key, PUBLIC_KEY_BYTES, "public key")
-    signature, _ = decode_b64(review.signature, SIGNATURE_BYTES, "signature")
-    if key is None or signature is None or not verify_signature(key, signature,
-                                                                review.signed_bytes()):
-        return ReviewStatus(review, "invalid",
-                            "the signature does not match the text of the review: the review "
-                            "was altered after signing, or its signature was damaged; the "
-                            "verdict must be treated as not given")
-    if case_id is not None and review.case != case_id:
-        return ReviewStatus(review, "invalid",
-                            f"the review was signed for case '{review.case}' but sits in the "
-                            f"signatures of case '{case_id}'; it was copied or moved there")
-    trusted = by_key.get(review.key)
-    if trusted is None:
-        return ReviewStatus(review, "untrusted-key",
-                            f"the signature is intact, but the key that made it is not in "
-                            f"{TRUSTED_KEYS_FILE}; a verdict counts only when the board trusts "
-                            "the signer's key")
-    if (trusted.name, trusted.role) != (review.signer, review.role):
-        return ReviewStatus(review, "untrusted-key",
-                            f"the signature is intact and its key is trusted, but for "
-                            f"{trusted.name} ({trusted.role}), not for {review.signer} "
-                            f"({review.role}) as the review says", trusted_key=trusted)
-    older = review.revision < current_revision
-    if review.digest == current_digest and review.revision == current_revision:
-        return ReviewStatus(review, "valid",
-                            f"signed by {review.signer} ({review.role}) on "
-                            f"{review.date.isoformat()} for revision {review.revision}; the case "
-                            "and the data it uses are unchanged since", trusted_key=trusted)
-    if older:
-        explanation = (f"signed for revision {review.revision}, but the case is now at revision "
-                       f"{current_revision}: the verdict is about an earlier version")
-    elif review.revision > current_revision:
-        explanation = (f"signed for revision {review.revision}, but the case is at revision "
-                       f"{current_revision}: the case file is older than the one signed, or "
-                       "its revision was lowered")
-    else:
-        explanation = (f"signed for this revision ({review.revision}), but the case file or "
-                       "the data it uses (species records, library or dossier version, method "
-                       "settings) changed since, without a new revision number")
-    return ReviewStatus(review, "changed-since-signed", explanation, revision_older=older,
-                        trusted_key=trusted)
-
-
-__all__ = ["SIGNATURE_FORMAT", "FIELDS", "SIGNED_FIELDS", "VERDICTS", "SIGNATURES_SUFFIX",
-           "SIGNATURE_BYTES", "Status", "STATUSES", "SignedReview", "ReviewStatus",
+__all__ = ["SIGNATURE_FORMAT", "SIGNATURE_FORMAT_2", "FIELDS", "FIELDS_2", "FIELDS_BY_FORMAT",
+           "WITHDRAWN", "VERDICTS_2", "ReviewParts", "parse_versions", "conditions_text",
+           "figures_text", "SIGNED_FIELDS", "VERDICTS", "SIGNATURES_SUFFIX",
+           "SIGNATURE_BYTES", "SignedReview",
            "verify_signature", "signatures_path", "parse_signatures", "load_signatures",
-           "make_review", "sign_review", "append_signature", "verify_reviews"]
+           "make_review", "sign_review", "append_signature"]

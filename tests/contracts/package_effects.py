@@ -48,6 +48,7 @@ FILE_IO = {
     CACHE_WRITER: Grant(reads="the cache", writes="the cache"),
     "dossier.cli.main": Grant(prints="command output, errors and progress"),
     "dossier.cli.signing": Grant(prints="command output and errors"),
+    "dossier.cli.checking": Grant(prints="check's verdict per file, its problems and notes"),
     "dossier.cli.site": Grant(prints="build progress, the build report and serve's messages"),
 }
 

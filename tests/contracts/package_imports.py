@@ -39,7 +39,7 @@ LAYERS = ("base", "chem", "model", "casefile", "library", "engine", "assess", "r
 # Libraries that make pages, pictures, PDFs or terminals: only render/ and above.
 PRESENTATION_LIBRARIES = frozenset({
     "jinja2", "markdown", "nh3", "matplotlib", "weasyprint", "click", "tqdm", "watchfiles",
-    "markupsafe", "latex2mathml"})
+    "markupsafe", "latex2mathml", "pypdf"})
 
 # Third-party packages that may be imported inside a function, because importing
 # them is slow (cost measured with `python -X importtime`, cumulative) or may fail,
@@ -51,6 +51,7 @@ HEAVY_PACKAGES = {
     "sympy": "about 330 ms; only for formulas shown as mathematics",
     "matplotlib": "200-450 ms; only for figures",
     "weasyprint": "about 550 ms and native libraries; only for PDF packets",
+    "pypdf": "about 200 ms; only to put meeting packets together from the case packets",
     "scipy": "scipy.optimize about 420 ms; only for the solvers",
     "pint": "about 170 ms and a unit registry; only at the unit edge",
     "rdkit": "optional (installed for the tests); rdkit.Chem about 85 ms",
@@ -65,6 +66,8 @@ HEAVY_PACKAGES = {
     "pgradd": "about 880 ms (GroupAdd.Library 145 ms + ThermoChem 735 ms, which pulls in "
               "scipy and matplotlib) and 340 ms to load its Benson groups; only for a "
               "[[species]] table that asks for a Benson estimate",
+    "rapidfuzz": "12-22 ms; only for `dossier species` and the nearest names of a species "
+                 "the library does not hold",
     "chemicals": "120-180 ms per submodule (vapor_pressure, acentric, heat_capacity); "
                  "only for the liquid step of a group-contribution estimate",
 }

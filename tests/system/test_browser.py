@@ -2,6 +2,7 @@
 and screenshots of the register and one dossier are kept for a reviewer's eye."""
 from __future__ import annotations
 
+import re
 import shutil
 import subprocess
 from pathlib import Path
@@ -82,3 +83,48 @@ def test_register_lists_every_case_without_javascript():
     rows = [el for el in tree.iter("tr") if el.get("data-search") is not None]
     assert len(rows) == len(harness.built_site().report.built)
     assert all(el.get("hidden") is None for el in rows)
+
+
+def test_register_search_lists_pages_of_the_whole_site(tmp_path):
+    # the fragment fills the search box as a reader typing "hydrogen" would
+    root = harness.built_site().root
+    dom = harness.parse(_run(tmp_path, "--dump-dom",
+                             (root / "index.html").as_uri() + "#search=hydrogen").encode("utf-8"))
+    box = [el for el in dom.iter() if el.get("id") == "search-box"][0]
+    assert box.get("hidden") is None
+    results = [el for el in dom.iter() if el.get("id") == "search-results"][0]
+    links = [a.get("href") for a in results.iter("a")]
+    assert "cases/hydrogenation.html" in links  # the case (its title and reaction)
+    assert "species/h2-g.html" in links  # the species record of H2(g), hydrogen
+    count = [el for el in dom.iter() if el.get("id") == "search-count"][0]
+    assert "".join(count.itertext()) == f"{len(links)} pages found"
+    for href in links:
+        assert (root / href.split("#")[0]).is_file(), href
+
+
+def test_register_columns_sort_when_their_headings_are_pressed(tmp_path):
+    # The register's own page with one more script that presses the "case" heading
+    # twice (ascending, then descending) and the "thermal safety" heading once; the
+    # page policy is left out of this copy so that the extra script may run.
+    root = harness.built_site().root
+    page = (root / "index.html").read_text(encoding="utf-8")
+    page = re.sub(r'<meta http-equiv="Content-Security-Policy"[^>]*>', "", page)
+    press = ("<script>var b = document.querySelectorAll('table.register th button');"
+             "b[0].click(); b[0].click();"
+             "document.body.setAttribute('data-case-sort', "
+             "b[0].parentNode.getAttribute('aria-sort'));</script>")
+    copy = tmp_path / "sort-check.html"
+    copy.write_text(page.replace("</body>", press + "</body>"), encoding="utf-8")
+    dom = harness.parse(_run(tmp_path, "--dump-dom", copy.as_uri()).encode("utf-8"))
+    body = dom.find(".//body")
+    assert body.get("data-case-sort") == "descending"
+    table = [t for t in dom.iter("table") if t.get("class") == "register"][0]
+    heads = [th for th in table.iter("th") if th.find("button") is not None]
+    assert ["".join(th.itertext()) for th in heads] == [
+        "case", "status and verdicts", "feasibility", "thermal safety"]
+    ids = [tr.find("td").get("data-sort") for tr in table.find("tbody").iter("tr")]
+    assert len(ids) >= 2 and ids == sorted(ids, reverse=True)
+    static = [t for t in harness.parse(root / "index.html").iter("table")
+              if t.get("class") == "register"][0]
+    before = [tr.find("td").get("data-sort") for tr in static.find("tbody").iter("tr")]
+    assert before == sorted(ids)  # the register's own order was the other way round

@@ -223,3 +223,86 @@ def test_a_second_writer_is_refused_while_one_holds_the_site(tmp_path):
     write_site(out, {"index.html": b"second"})
     assert (out / "index.html").read_bytes() == b"second"
     assert siblings(out) == []
+
+
+# --------------------------------------------------------------------------
+# No process outlives a killed build
+
+#: How long the helpers of a killed build may take to notice and exit.  The old
+#: runner left workers, the fork server and the resource tracker alive for
+#: minutes (issue 16: 3-4 processes alive 90 s later in 45 of 93 kills).
+ORPHAN_GRACE = 30  # seconds
+PARALLEL_CASES = ("ammonia.md", "calcination.md", "hydrogenation.md")
+
+
+def processes_with(token: str) -> list[int]:
+    """The processes whose environment carries ``token`` (a build and everything it
+    started inherit it; orphans keep it after their parent is gone)."""
+    needle = token.encode("ascii")
+    found = []
+    for entry in os.listdir("/proc"):
+        if not entry.isdigit():
+            continue
+        try:
+            with open(f"/proc/{entry}/environ", "rb") as fh:
+                env = fh.read()
+            with open(f"/proc/{entry}/stat", "rb") as fh:
+                state = fh.read().rsplit(b")", 1)[1].split()[0]
+        except OSError:  # gone meanwhile, or not ours
+            continue
+        if needle in env.split(b"\0") and state != b"Z":  # a zombie is already dead
+            found.append(int(entry))
+    return found
+
+
+def _parallel_workspace(base: Path) -> tuple[Path, Path]:
+    cases = base / "cases"
+    cases.mkdir()
+    for name in PARALLEL_CASES:
+        shutil.copy(ROOT / "tests" / "fixtures" / "site" / "cases" / name, cases / name)
+    return cases, base / "out"
+
+
+@pytest.mark.parametrize("moment", ["workers started", "workers busy"])
+def test_no_worker_or_helper_survives_a_sigkill_of_the_build(tmp_path, moment):
+    """A cold build with two workers is killed (SIGKILL, main process only) once its
+    worker processes exist; within ORPHAN_GRACE every process it started is gone."""
+    if not Path("/proc/self/environ").exists():
+        pytest.skip("needs /proc to find the build's processes")
+    cases, out = _parallel_workspace(tmp_path)
+    token = f"DOSSIER_KILL_TEST={os.getpid()}-{moment.replace(' ', '-')}-{time.time_ns()}"
+    env = {**os.environ, token.split("=")[0]: token.split("=", 1)[1]}
+    cmd = [sys.executable, "-m", "dossier.cli.main", "build", str(cases), "--out", str(out),
+           "--jobs", "2", "--cache", str(tmp_path / "cache")]
+    proc = subprocess.Popen(cmd, cwd=ROOT, env=env, stdout=subprocess.DEVNULL,
+                            stderr=subprocess.DEVNULL)
+    try:
+        deadline = time.monotonic() + BUILD_DEADLINE
+        helpers: list[int] = []
+        while proc.poll() is None and time.monotonic() < deadline:
+            helpers = [p for p in processes_with(token) if p != proc.pid]
+            if len(helpers) >= 3:  # fork server (or tracker) and two workers
+                break
+            time.sleep(0.02)
+        assert proc.poll() is None, "the build ended before it started its workers"
+        assert len(helpers) >= 3, f"only {len(helpers)} helper processes seen"
+        if moment == "workers busy":
+            time.sleep(1.0)  # inside the assessments (each takes seconds cold)
+        proc.send_signal(signal.SIGKILL)
+        assert proc.wait(timeout=BUILD_DEADLINE) == -signal.SIGKILL
+        end = time.monotonic() + ORPHAN_GRACE
+        left = processes_with(token)
+        while left and time.monotonic() < end:
+            time.sleep(0.1)
+            left = processes_with(token)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()
+    for pid in processes_with(token):  # leave nothing behind, whatever the outcome
+        try:
+            os.kill(pid, signal.SIGKILL)
+        except OSError:
+            pass
+    assert left == [], (f"{len(left)} processes of the killed build still alive after "
+                        f"{ORPHAN_GRACE} s: {left}")

@@ -225,7 +225,9 @@ def test_evaluate_rejects_a_bare_at_temperature():
 
 
 def test_check_reports_every_file():
-    r = run_cli("check", str(FIXTURES / "full.md"), str(FIXTURES / "unknown_key.md"))
+    # a case ready for its status (full.md, submitted, has no narrative sections)
+    ready = FIXTURES.parent / "readiness" / "ready.md"
+    r = run_cli("check", str(ready), str(FIXTURES / "unknown_key.md"))
     assert r.returncode == 2
     assert "ok: " in r.stdout and "1 of 2 case files are good." in r.stdout
     assert "did you mean" in r.stderr

@@ -95,6 +95,10 @@ def test_every_schema_key_is_present_in_the_template():
             assert re.search(rf"(?m)^(# )?{field.name} = ", header), field.name
         for sub in field.table.fields if field.table else ():
             assert re.search(rf"(?m)^# {sub.name} = ", header), f"{field.name}.{sub.name}"
+            if field.name == "variant" and sub.table is not None:
+                # a variant's tables take the base tables' keys, explained there once
+                assert f"\n# {sub.name}: Inputs of [{sub.name}] that differ" in header
+                continue
             for subsub in sub.table.fields if sub.table else ():
                 assert f"#   {sub.name}.{subsub.name}: " in header
                 assert re.search(rf"(?m)^# {sub.name} = {{.*\b{subsub.name} = ", header)

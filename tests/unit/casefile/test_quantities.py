@@ -117,8 +117,8 @@ def test_mass_or_amount():
     ("5 J/(mol*K)", "pressure",
      "expected a pressure, like '5 bar'; got '5 J/(mol*K)', which is a molar heat "
      "capacity or a molar entropy"),
-    ("1 m3/s", "pressure", "expected a pressure, like '5 bar'; got '1 m3/s', which is "
-                           "a quantity of dimension [length] ** 3 / [time]"),
+    ("1 m3/s", "pressure", "expected a pressure, like '5 bar'; got '1 m3/s', which reads "
+                           "as cubic metres per second (a volume flow rate)"),
     ("5 barr", "pressure",
      "unknown unit 'barr' in '5 barr'; expected a pressure, like '5 bar'; "
      "did you mean 'bar'?"),

@@ -24,6 +24,8 @@ def _perturbed(name: str, value):
     severity raised one step, the last decomposition product dropped."""
     if isinstance(value, bool):
         return not value
+    if name == "uncertainty_coverage":  # a fraction: another coverage a board might print
+        return 0.9
     if isinstance(value, int):
         return value * 2 + 1
     if isinstance(value, float):

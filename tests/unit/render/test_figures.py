@@ -36,7 +36,8 @@ def _svg_root(svg: str):
 
 def test_case_figures_are_svg_with_caption_alt_and_data(hydrogenation):
     figs = figures.case_figures(hydrogenation.thermo, hydrogenation.assessment)
-    assert [f.name for f in figs] == ["gibbs", "conversion", "entropy", "ladder"]
+    # the fixture gives an MTT and decomposition kinetics, so the envelope is drawn too
+    assert [f.name for f in figs] == ["gibbs", "conversion", "entropy", "ladder", "envelope"]
     for f in figs:
         _svg_root(f.svg)
         assert f.caption and f.alt and f.title

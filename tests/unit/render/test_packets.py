@@ -171,7 +171,11 @@ def test_case_packet_is_archival_with_metadata_and_the_assessment_attached(case_
     assert meta.title.startswith("kiln, revision 1")
     assert "revision 1" in meta.subject and "revision 1" in meta["/Keywords"]
     xmp = case_pdf.trailer["/Root"]["/Metadata"].get_object().get_data().decode("utf-8")
-    assert re.search(r"pdfaid:part(>|=\")3", xmp) and re.search(r"pdfaid:conformance(>|=\")B", xmp)
+    # PDF/A-3a (archival, tagged) and the PDF/UA-1 identification beside it
+    assert re.search(r"pdfaid:part(>|=\")3", xmp) and re.search(r"pdfaid:conformance(>|=\")A", xmp)
+    assert re.search(r"pdfuaid:part(>|=\")1", xmp)
+    assert "/StructTreeRoot" in case_pdf.trailer["/Root"]
+    assert case_pdf.trailer["/Root"]["/MarkInfo"]["/Marked"]
     attached = case_pdf.attachments
     assert list(attached) == ["kiln-assessment.json"]
     data = json.loads(attached["kiln-assessment.json"][0])
@@ -189,7 +193,12 @@ def test_meeting_packet_has_its_own_cover_and_agenda(built, case_text):
     for needle in ("Review meeting 2026-11-24", "Agenda", "kiln, revision 1",
                    "startson", "page 2", "Cautions"):
         assert _squash(needle) in cover, needle
-    assert _squash(pdf.pages[1].extract_text()) == _squash(case_text[0])
+    # each case page as the case packet has it, with the meeting packet's own number
+    # stamped at its foot: "page i of N" counts through the whole meeting packet
+    n = len(pdf.pages)
+    for i, text in enumerate(case_text, start=2):
+        stamp = _squash(f"Meeting packet 2026-11-24 · page {i} of {n}")
+        assert _squash(pdf.pages[i - 1].extract_text()) == _squash(case_text[i - 2]) + stamp
     assert list(pdf.attachments) == ["kiln-assessment.json"]
 
 

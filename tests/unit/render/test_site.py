@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import dataclasses
+import json
 import os
 import re
 import shutil
@@ -237,10 +238,16 @@ def test_payloads_in_every_free_text_field_stay_text():
     assert len(pages) >= 5
     for page in pages:
         tree = harness.parse(page)
-        scripts = [el for el in tree.iter() if el.tag == "script"]
+        scripts = [el for el in tree.iter() if el.tag == "script"
+                   and el.get("type") != "application/json"]
+        data = [el for el in tree.iter("script") if el.get("type") == "application/json"]
         bits = [x for x in _executable_bits(tree) if x != "<script>"]
         assert bits == [], (page.name, bits)
         assert all(el.text == own_script for el in scripts), page.name
+        # the register's search index is data, never run: the same JSON as search.json
+        assert [json.loads(el.text) for el in data] == (
+            [json.loads((b.root / "search.json").read_text(encoding="utf-8"))]
+            if page == b.root / "index.html" else [])
         # only the register (the site's top index.html) carries the filter script
         assert len(scripts) == (1 if page == b.root / "index.html" else 0)
         csp = [el.get("content") for el in tree.iter("meta")

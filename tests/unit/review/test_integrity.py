@@ -359,6 +359,14 @@ def _digest_of(tmp_path, data: bytes, name: str = "neut.md") -> str:
                          b'date = 2026-11-21\nverdict = "declined"\n\n[charge]')),
     ("a recorded verdict's text changed",
      lambda d: d.replace(b"level control.", b"level control and a second operator.")),
+    ("a recorded verdict's condition rewritten as a table with an id",
+     lambda d: d.replace(b'conditions = "Dose acid under level control."',
+                         b'[[review.conditions]]\nid = "C1"\n'
+                         b'text = "Dose acid under level control."')),
+    ("a closure of a condition added",
+     lambda d: d.replace(b"[charge]", b'[[closure]]\ncondition = "R1"\nevidence = "level '
+                         b'control loop LC-4 commissioned"\nby = "M. Okafor"\n'
+                         b'date = 2026-12-01\n\n[charge]')),
 ])
 def test_edits_that_do_not_change_what_the_loader_reads_keep_the_digest(tmp_path, what, edit):
     assert _digest_of(tmp_path, edit(_GUARDED)) == _digest_of(tmp_path, _GUARDED, "base.md"), what
@@ -430,4 +438,5 @@ def test_verify_exits_1_when_a_recorded_verdict_no_longer_matches(tmp_path):
     path.write_bytes(path.read_bytes().replace(b"Narrative.", b"Narrative, edited."))
     bad = runner.invoke(main, ["verify", str(tmp_path)])
     assert bad.exit_code == 1
-    assert "1 recorded verdicts: 1 changed since reviewed." in bad.output
+    assert ("1 recorded verdicts: 0 matches, 1 changed since reviewed, 0 not checkable: "
+            "no digest.") in bad.output

@@ -19,8 +19,9 @@ from dossier.review.keys import (TrustedKey, generate_keypair, load_private_key,
                                  parse_trusted_keys, public_key_text, trusted_key_line,
                                  write_private_key)
 from dossier.review.signatures import (SignedReview, append_signature, load_signatures,
-                                       make_review, parse_signatures, sign_review, verify_reviews,
+                                       make_review, parse_signatures, sign_review,
                                        verify_signature)
+from dossier.review.verdicts import verify_reviews
 from dossier.cli.signing import COMMANDS, key_file_name
 from fuzzing import bounded
 from paths import FIXTURES
@@ -475,8 +476,9 @@ ORDER = ("the fields of a signed review are format, case, revision, digest, sign
     (7, "date: 20261120", "date '20261120' is not a calendar date written YYYY-MM-DD"),
     (8, "verdict: approved",
      "verdict 'approved' is not one of accepted, accepted-with-conditions, declined"),
-    (1, "format: dossier-review-2",
-     "unknown format 'dossier-review-2'; this version of dossier reads 'dossier-review-1'"),
+    (1, "format: dossier-review-3",
+     "unknown format 'dossier-review-3'; this version of dossier reads 'dossier-review-1' and "
+     "'dossier-review-2'"),
     (10, "key: abc", "the public key is not valid base64"),
     (10, "key: " + base64.b64encode(bytes(31)).decode(),
      "the public key must be 32 bytes, this one is 31"),
@@ -646,29 +648,47 @@ def test_sign_and_verify_commands(board, cli):
                  "accepted-with-conditions", "--conditions", CONDITIONS, "--date", "2026-11-20")
     assert result.exit_code == 0, result.output
     assert f"Appended to {cases / 'burn.signatures'}." in result.stdout
+    assert f"  condition C1: {CONDITIONS}" in result.stdout
     (review,) = load_signatures(cases / "burn.signatures")
     assert (review.case, review.revision, review.signer, review.role, review.date) == (
         "burn", 2, "R. Example", "process safety", DATE)
+    assert review.format == "dossier-review-2"
+    assert review.condition_list == (("C1", CONDITIONS),)
 
     result = cli("verify", cases)
     assert result.exit_code == 0, result.output
     assert result.stdout.splitlines()[2].split() == [
-        "burn", "2", "R.", "Example", "accepted-with-conditions", "valid"]
+        "burn", "2", "R.", "Example", "2026-11-20", "accepted-with-conditions", "valid"]
     assert "1 signatures: 1 valid, 0 changed-since-signed, 0 untrusted-key, 0 invalid." in result.stdout
+    assert "1 current verdicts: 1 hold." in result.stdout
+    assert f"  burn C1: open: {CONDITIONS}" in result.stdout
 
-    # Append only: a second signature leaves the first block as it was.
+    # Append only: a second signature leaves the first block as it was, and
+    # supersedes it (same signer).
     before = (cases / "burn.signatures").read_bytes()
-    result = cli("sign", cases / "burn.md", "--key", key_path, "--verdict", "declined")
+    result = cli("sign", cases / "burn.md", "--key", key_path, "--verdict", "declined",
+                 "--note", "The cooling case is missing.")
     assert result.exit_code == 0, result.output
     assert (cases / "burn.signatures").read_bytes().startswith(before + b"\n")
+    result = cli("verify", cases)
+    assert result.exit_code == 0, result.output
+    assert ("2 signatures: 1 valid, 0 changed-since-signed, 1 superseded, 0 untrusted-key, "
+            "0 invalid.") in result.stdout
+    assert (f"    replaced by R. Example's verdict of {datetime.date.today().isoformat()} on "
+            "revision 2; kept in the history") in result.stdout
+    assert "Conditions:" not in result.stdout  # the declined verdict sets none
 
-    # One changed byte in the narrative: both signatures no longer hold.
+    # One changed byte in the narrative: the current verdict no longer holds.
     case = cases / "burn.md"
     case.write_bytes(case.read_bytes().replace(b"Narrative.", b"Narrativ!."))
     result = cli("verify", cases)
     assert result.exit_code == 1
-    assert result.stdout.count("changed-since-signed") >= 2
-    assert "signed for this revision (2), but the case file or the data it uses" in result.stdout
+    assert result.stdout.count("changed-since-signed") == 2  # the row and the counts
+    assert ("signed for this revision (2), but the case file or the data it uses (species "
+            "records, library or dossier version, method settings) changed since, without a "
+            "new revision number; changed since signing: the case file's content; unchanged: "
+            "the species records used, the method settings and board policy, the versions of "
+            "the data library, dossier and method libraries") in result.stdout
 
 
 def test_verify_exit_2_on_a_damaged_signature_file(board, cli):
