@@ -17,6 +17,7 @@ from dossier.assess.resolve import Resolution
 from dossier.assess.screening import screen_terms
 from dossier.chem.reaction import Reaction, Term
 from dossier.constants import SECONDS_PER_HOUR
+from dossier import number_policy as policy
 from dossier.engine.runaway import RunawayScenario, runaway_scenario
 from dossier.engine.settings import MethodSettings
 from dossier.engine.thermo import ReactionThermo
@@ -192,8 +193,8 @@ def _gaps(case: Case, scale: ScaleFigures | None, sc: RunawayScenario
         not_assessed += (("criticality class", sc.criticality.missing),)
     notes = list(sc.notes)
     if scale is not None and scale.heat_released_kJ < 0.0:
-        notes.insert(0, f"the reaction is endothermic: it absorbs {-scale.heat_released_kJ:,.0f} kJ "
-                        "per batch and cannot heat the mass, so its adiabatic temperature rise is "
+        notes.insert(0, f"the reaction is endothermic: it absorbs "
+                        f"{policy.quantity(-scale.heat_released_kJ, 'kJ')} per batch and cannot heat the mass, so its adiabatic temperature rise is "
                         "taken as zero (MTSR = process temperature)")
     if no_gas:
         notes.append("the reaction releases no gas (it makes no more gas than it uses), so "

@@ -10,11 +10,11 @@ from the :class:`Evaluation`, never by resolving anything again.
 from __future__ import annotations
 
 import dataclasses
-import importlib.metadata
 from dataclasses import dataclass
 
 import numpy as np
 
+from dossier import number_policy as policy
 from dossier import __version__
 from dossier.assess.batch import BatchResult, assess_batch
 from dossier.assess.resolve import Resolution, resolve_species, unused_table_warning
@@ -34,6 +34,14 @@ from dossier.model.assessment import (Assessment, ProfileRow, SolutionState, Spe
                                       Thermodynamics)
 from dossier.model.case import Case
 from dossier.model.findings import Finding
+
+_NB = policy.UNIT_SPACE
+
+
+def _K(T: float) -> str:
+    """A temperature of a range, to 0.1 K (the number policy)."""
+    return policy.fixed(T, 1, group=False)
+
 
 CAUTIONS: tuple[str, ...] = (
     "These are screening-level estimates from tabulated data and published "
@@ -68,7 +76,16 @@ class Evaluation:
 
 def evaluate(case: Case, library: Library, extra_temperatures: tuple[float, ...] = (),
              settings: MethodSettings = DEFAULT) -> Evaluation:
-    """The assessment of ``case`` with the records, properties and settings it used."""
+    """The assessment of ``case`` with the records, properties, settings and method
+    libraries (with their versions) it used."""
+    ev = _evaluation(case, library, extra_temperatures, settings)
+    return dataclasses.replace(ev, method_libraries=method_libraries(case, ev.assessment))
+
+
+def _evaluation(case: Case, library: Library, extra_temperatures: tuple[float, ...],
+                settings: MethodSettings) -> Evaluation:
+    """:func:`evaluate` without the method libraries' versions (reading package metadata
+    costs ``dossier evaluate`` about 20 ms, and it prints no versions)."""
     reaction = _located(case, "reaction", lambda: parse_reaction(case.reaction))
     resolution = resolve_species(case, reaction, library, settings)
     compositions = {r.term.key: (r.record.composition, r.record.charge)
@@ -106,8 +123,7 @@ def evaluate(case: Case, library: Library, extra_temperatures: tuple[float, ...]
         tool_version=__version__, variants=variants,
         envelope=envelope(case, batch.safety, properties))
     used = {r.id: r for r in resolution.records + batch.product_records + plan.records}
-    return Evaluation(assessment, properties, resolution.records, tuple(used.values()), settings,
-                      method_libraries(case, assessment))
+    return Evaluation(assessment, properties, resolution.records, tuple(used.values()), settings)
 
 
 def method_libraries(case: Case, assessment: Assessment) -> tuple[tuple[str, str], ...]:
@@ -127,6 +143,8 @@ def method_libraries(case: Case, assessment: Assessment) -> tuple[tuple[str, str
 
 
 def _version(package: str) -> str:
+    import importlib.metadata  # deferred: about 20 ms (email, zipfile, csv)
+
     try:
         return importlib.metadata.version(package)
     except importlib.metadata.PackageNotFoundError:
@@ -136,7 +154,7 @@ def _version(package: str) -> str:
 def assess_case(case: Case, library: Library, extra_temperatures: tuple[float, ...] = (),
                 settings: MethodSettings = DEFAULT) -> Assessment:
     """The assessment alone (for callers that need no digest, figures or derivation)."""
-    return evaluate(case, library, extra_temperatures, settings).assessment
+    return _evaluation(case, library, extra_temperatures, settings).assessment
 
 
 def _located(case: Case, key: str, step):
@@ -172,8 +190,8 @@ def _species_uses(case: Case, resolution: Resolution, nus: tuple[float, ...],
             overrides_library=r.replaces is not None, digest=rec.digest()))
         if t_lo < m.t_min or t_hi > m.t_max:
             warnings.append(
-                f"{key}: the {m.kind} data range is {m.t_min:.2f}-{m.t_max:.2f} K; "
-                f"the window {t_lo:.2f}-{t_hi:.2f} K extends beyond it, so values there are "
+                f"{key}: the {m.kind} data range is {_K(m.t_min)}–{_K(m.t_max)}{_NB}K; "
+                f"the window {_K(t_lo)}–{_K(t_hi)}{_NB}K extends beyond it, so values there are "
                 "extrapolated")
         if sr is not None:
             warnings.extend(phase_warnings(key, rec.phase, rec.phase_data, sr, case.window))
@@ -202,8 +220,9 @@ def _missing_cp_warning(key: str, nu: float, rec: SpeciesRecord,
     far = max(window, key=lambda T: abs(T - T_REF))
     cost = abs(nu) * u * abs(far - T_REF) / 1e3
     return (f"{key}: its source gives no heat capacity, so Cp is held at 0 J/(mol·K) with an "
-            f"uncertainty of ±{u:.0f} J/(mol·K) (see the record's note); ΔH° may be off by up to "
-            f"{cost:.1f} kJ/mol at {far:.2f} K, and ΔS° and ΔG° likewise away from 298.15 K")
+            f"uncertainty of ±{policy.quantity(u, 'J/(mol·K)', figures=2)} (see the record's "
+            f"note); ΔH° may be off by up to {policy.quantity(cost, 'kJ/mol')} at "
+            f"{_K(far)}{_NB}K, and ΔS° and ΔG° likewise away from 298.15{_NB}K")
 
 def _profile(case: Case, reaction: Reaction, properties: ReactionThermo, grid: np.ndarray,
              requested: set[float], plan_of) -> tuple[tuple[ProfileRow, ...], str, str,
@@ -264,8 +283,8 @@ def _thermodynamics(case: Case, reaction: Reaction, properties: ReactionThermo,
     data_lo, data_hi = properties.data_range
     # Crossovers: in the window, and across the data range around it.
     scan_min, scan_max = settings.crossover_scan_K
-    crossovers = properties.crossovers(min(t_lo, max(data_lo, scan_min)),
-                                       max(t_hi, min(data_hi, scan_max)))
+    searched = (float(min(t_lo, max(data_lo, scan_min))), float(max(t_hi, min(data_hi, scan_max))))
+    crossovers = properties.crossovers(*searched)
     dH298, dS298 = float(properties.dH(T_REF)), float(properties.dS(T_REF))
     const_cross = dH298 / dS298 if dS298 != 0 and dH298 / dS298 > 0 else None
     g_window = properties.dG(np.linspace(t_lo, t_hi, settings.favourable_points))
@@ -278,6 +297,7 @@ def _thermodynamics(case: Case, reaction: Reaction, properties: ReactionThermo,
         dH298_kJ_mol=dH298 / 1e3, dS298_J_molK=dS298,
         dG298_kJ_mol=(dH298 - T_REF * dS298) / 1e3,
         crossovers=crossovers, crossover_constant_K=const_cross, profile=rows,
+        crossover_search_K=searched,
         equilibrium_mode=mode, equilibrium_note=note, basis=_basis_term(case, reaction).key,
         favourable=favourable, activity_model=plan.requested, solution_model=plan.used,
         solution_model_text=plan.model_text, solution_members=plan.members,

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from typing import Callable, Iterable, Iterator
 
 from dossier.assess.resolve import ESTIMATE_PREFIX
+from dossier import number_policy as policy
 from dossier.chem.formula import parse_formula
 from dossier.constants import R, T_REF, ZERO_CELSIUS
 from dossier.engine.estimate import estimate_species
@@ -36,6 +37,24 @@ class RuleSubject:
     settings: MethodSettings
     warnings: tuple[str, ...] = field(default=())
 
+_NB = policy.UNIT_SPACE
+
+
+def _q(x: float | None, unit: str, interval=None) -> str:
+    """A figure by the number policy ('3.62 GJ', '442 bar')."""
+    return policy.quantity(x, unit, interval)
+
+
+def _plain(x: float, unit: str) -> str:
+    """A threshold or input as given, with its unit ('50 K', '500 J/g')."""
+    return f"{policy.plain(x)}{_NB}{unit}"
+
+
+def _bar(p_bar: float) -> str:
+    """A pressure the case states (as given): '1 bar', '1.01325 bar'."""
+    return _plain(p_bar, "bar")
+
+
 THERMO_SOURCE = ("Standard-state thermodynamics from tabulated data: ΔG° = ΔH° − TΔS°, "
                  "ln K = −ΔG°/RT, Kirchhoff's law for the temperature dependence")
 
@@ -57,14 +76,16 @@ def unfavourable(subj: RuleSubject) -> Iterator[Finding]:
         g = [r.dG_kJ_mol for r in rows]
         best = max(r.conversion for r in rows)
         if best >= 0.01:
-            reach = (f"; at the case pressure of {t.pressure_bar:g} bar the equilibrium still "
-                     f"reaches at most {best:.0%} conversion")
+            reach = (f"; at the case pressure of {_bar(t.pressure_bar)} the equilibrium still "
+                     f"reaches at most {policy.percent(best)} conversion")
         else:
-            reach = ("; even at the case pressure the equilibrium conversion stays below 1 %, so "
+            reach = (f"; even at the case pressure the equilibrium conversion stays below "
+                     f"1{_NB}%, so "
                      "the reaction does not proceed as written")
         yield Finding("unfavourable-everywhere", "warning",
                       f"ΔG° is positive across the whole window {kelvin_celsius(lo)} to {kelvin_celsius(hi)} "
-                      f"({min(g):.1f} to {max(g):.1f} kJ/mol), so K < 1 throughout{reach}. "
+                      f"({policy.fixed(min(g), 1)} to {_q(max(g), 'kJ/mol')}), so K < 1 "
+                      f"throughout{reach}. "
                       "It needs product removal, other conditions or another route.",
                       THERMO_SOURCE)
 
@@ -98,8 +119,9 @@ def equilibrium_limited(subj: RuleSubject) -> Iterator[Finding]:
         worst = min(low, key=lambda r: r.conversion)
         yield Finding("equilibrium-limited", "caution",
                       f"The equilibrium stops short of completion in the window: the conversion "
-                      f"of {t.basis} falls below {limit:.1%} (lowest {worst.conversion:.1%} at "
-                      f"{kelvin_celsius(worst.T_K)}, {t.pressure_bar:g} bar), so the reaction "
+                      f"of {t.basis} falls below {policy.percent(limit)} (lowest "
+                      f"{policy.percent(worst.conversion)} at "
+                      f"{kelvin_celsius(worst.T_K)}, {_bar(t.pressure_bar)}), so the reaction "
                       "cannot go to completion there without removing a product or changing "
                       "pressure or temperature.",
                       f"Equilibrium of one reaction, ideal gases and "
@@ -129,7 +151,8 @@ def case_local(subj: RuleSubject) -> Iterator[Finding]:
     for s in subj.species:
         if s.local and s.name not in estimated:  # estimates have their own finding
             units = {"hf": (1e3, "kJ/mol"), "s": (1.0, "J/(mol·K)"), "cp": (1.0, "J/(mol·K)")}
-            unc = ", ".join(f"{k} ± {v / units.get(k, (1.0, ''))[0]:g} {units.get(k, (1.0, ''))[1]}".rstrip()
+            unc = ", ".join(f"{k} ± {policy.plain(v / units.get(k, (1.0, ''))[0])}"
+                            f"{_NB}{units.get(k, (1.0, ''))[1]}".rstrip()
                             for k, v in s.uncertainty)
             yield Finding("case-local-data", "information",
                           f"{s.key} uses the case's own data ({s.source.removeprefix('case-local data: ')})"
@@ -166,12 +189,14 @@ def _estimated(s: SpeciesUse) -> Finding:
     return Finding(
         "estimated-data", "caution",
         f"{s.key} has no data in the library or the case: its values are estimated from its "
-        f"structure ({how}): ΔfH° {s.hf298_kJ_mol:.1f} ± {u['hf'] / 1e3:.1f} kJ/mol, S° "
-        f"{s.s298_J_molK:.1f} ± {u['s']:.1f} J/(mol·K), Cp° {s.cp298_J_molK:.1f} ± "
-        f"{u['cp']:.1f} J/(mol·K) (one standard uncertainty each). As written in the reaction "
-        f"they carry ± {nu * u['hf'] / 1e3:.1f} kJ/mol into ΔrH° and ± {nu * u['s']:.1f} "
-        f"J/(mol·K) into ΔrS°, together ± {u_g / 1e3:.1f} kJ/mol into ΔrG° at 298.15 K: K is "
-        f"uncertain by a factor of about {math.exp(u_g / (R * T_REF)):.3g} there. Replace them "
+        f"structure ({how}): ΔfH° {policy.plus_minus(s.hf298_kJ_mol, u['hf'] / 1e3, 'kJ/mol')}, "
+        f"S° {policy.plus_minus(s.s298_J_molK, u['s'], 'J/(mol·K)')}, "
+        f"Cp° {policy.plus_minus(s.cp298_J_molK, u['cp'], 'J/(mol·K)')} (one standard "
+        f"uncertainty each). As written in the reaction they carry "
+        f"± {_q(nu * u['hf'] / 1e3, 'kJ/mol')} into ΔrH° and ± {_q(nu * u['s'], 'J/(mol·K)')} "
+        f"into ΔrS°, together ± {_q(u_g / 1e3, 'kJ/mol')} into ΔrG° at 298.15{_NB}K: K is "
+        f"uncertain by a factor of about {policy.significant(math.exp(u_g / (R * T_REF)))} "
+        "there. Replace them "
         "by measured values before the figures are relied on.", ESTIMATE_SHORT)
 
 
@@ -190,14 +215,15 @@ def _estimate_check(s: SpeciesUse, table: LocalSpecies, settings: MethodSettings
     parts, apart = [], []
     for key, q in (("hf", est.hf), ("s", est.s), ("cp", est.cp)):
         name, scale, unit = words[key]
-        parts.append(f"{name} {given[key] / scale:.1f} given, {q.value / scale:.1f} ± "
-                     f"{q.uncertainty / scale:.1f} {unit} estimated")
+        parts.append(f"{name} {_q(given[key] / scale, unit)} given, "
+                     f"{policy.plus_minus(q.value / scale, q.uncertainty / scale, unit)} "
+                     "estimated")
         if abs(given[key] - q.value) > limit * q.uncertainty:
             apart.append(name)
     formula = dict(est.composition) == _elements_of(s.formula)
-    verdict = (f"They differ by more than {limit:g} standard uncertainties of the estimate in "
-               f"{', '.join(apart)}: check the values and their source."
-               if apart else f"They agree within {limit:g} standard uncertainties.")
+    verdict = (f"They differ by more than {policy.plain(limit)} standard uncertainties of the "
+               f"estimate in {', '.join(apart)}: check the values and their source."
+               if apart else f"They agree within {policy.plain(limit)} standard uncertainties.")
     if not formula:
         verdict = "The SMILES does not describe the formula given: check the structure."
     return Finding("estimated-data", "caution" if apart or not formula else "information",
@@ -218,9 +244,11 @@ def exotherm_severity(subj: RuleSubject) -> Iterator[Finding]:
     sev = subj.settings.severity_finding(s.severity)
     (low, _inf, b1), (medium, _b1, b2), (high, _b2, _top) = subj.settings.severity_bands_K
     yield Finding("exotherm-severity", sev,
-                  f"Adiabatic temperature rise {s.adiabatic_rise_K:.1f} K: severity "
-                  f"{s.severity} on the three-level scale (below {b1:g} K {low}, {b1:g}–{b2:g} K "
-                  f"{medium}, above {b2:g} K {high}).",
+                  f"Adiabatic temperature rise "
+                  f"{_q(s.adiabatic_rise_K, 'K', s.adiabatic_rise_interval_K)}: severity "
+                  f"{s.severity} on the three-level scale (below {_plain(b1, 'K')} {low}, "
+                  f"{policy.plain(b1)}–{_plain(b2, 'K')} {medium}, above {_plain(b2, 'K')} "
+                  f"{high}).",
                   subj.settings.source_of("severity_bands_K") or SEVERITY_SHORT)
 
 
@@ -230,8 +258,13 @@ def criticality(subj: RuleSubject) -> Iterator[Finding]:
         return
     k = s.criticality_class
     sev = subj.settings.criticality_finding(k)
+    reason = s.criticality_reason
+    # the temperatures at the digits their 95 % intervals fix, as everywhere else
+    for T, pair in ((s.mtsr_K, s.mtsr_interval_K), (s.td24_K, s.td24_interval_K)):
+        if T is not None and pair:
+            reason = reason.replace(kelvin_celsius(T), kelvin_celsius(T, interval=pair))
     yield Finding("criticality-class", sev,
-                  "Criticality " + s.criticality_reason.rstrip(".") + ".", CRITICALITY_SHORT)
+                  "Criticality " + reason.rstrip(".") + ".", CRITICALITY_SHORT)
 
 
 def probability(subj: RuleSubject) -> Iterator[Finding]:
@@ -241,9 +274,10 @@ def probability(subj: RuleSubject) -> Iterator[Finding]:
     sev = subj.settings.probability_finding(s.probability)
     (high, _z, b1), (medium, _b1, b2), (low, _b2, _top) = subj.settings.probability_bands_h
     yield Finding("runaway-probability", sev,
-                  f"TMRad at the MTSR is {s.tmrad_at_mtsr_h:.1f} h: probability "
-                  f"{s.probability} (above {b2:g} h {low}, {b1:g}–{b2:g} h {medium}, below "
-                  f"{b1:g} h {high}).",
+                  f"TMRad at the MTSR is "
+                  f"{_q(s.tmrad_at_mtsr_h, 'h', s.tmrad_at_mtsr_interval_h)}: probability "
+                  f"{s.probability} (above {_plain(b2, 'h')} {low}, {policy.plain(b1)}–"
+                  f"{_plain(b2, 'h')} {medium}, below {_plain(b1, 'h')} {high}).",
                   (subj.settings.source_of("probability_bands_h") or PROBABILITY_SHORT)
                   + "; TMRad by Townsend and Tou (1980), zero-order approximation")
 
@@ -254,9 +288,10 @@ def cooling(subj: RuleSubject) -> Iterator[Finding]:
         return
     if not s.cooling_sufficient:
         yield Finding("cooling-shortfall", "warning",
-                      f"Mean heat release {s.release_rate_kW:.1f} kW exceeds the cooling "
-                      f"capacity {s.cooling_capacity_kW:.1f} kW (U·A·(T_process − T_coolant)) "
-                      f"by {-s.cooling_margin_kW:.1f} kW: the temperature will rise during "
+                      f"Mean heat release {_q(s.release_rate_kW, 'kW')} exceeds the cooling "
+                      f"capacity {_q(s.cooling_capacity_kW, 'kW')} (U·A·(T_process − "
+                      f"T_coolant)) by {_q(-s.cooling_margin_kW, 'kW')}: the temperature will "
+                      "rise during "
                       "the feed.", "Heat balance of a cooled vessel, common practice")
 
 
@@ -265,17 +300,19 @@ def gas(subj: RuleSubject) -> Iterator[Finding]:
     if s is None or s.scale is None or s.scale.gas_mol <= 0:
         return
     vol = s.gas_volume_normal_m3
-    text = (f"The reaction releases {s.scale.gas_mol:.3g} mol of gas per batch "
-            f"({vol:.3g} m³ at {subj.settings.gas_normal_T_K - ZERO_CELSIUS:.0f} °C and "
-            f"{subj.settings.gas_normal_p_Pa / 1e5:g} bar)")
+    text = (f"The reaction releases {_q(s.scale.gas_mol, 'mol')} of gas per batch "
+            f"({_q(vol, 'm³')} at {_plain(subj.settings.gas_normal_T_K - ZERO_CELSIUS, '°C')} "
+            f"and {_bar(subj.settings.gas_normal_p_Pa / 1e5)})")
     if s.pressure_at_mtsr_bar is not None:
-        text += f", {s.pressure_at_mtsr_bar:.2f} bar in the closed gas space at the MTSR"
+        text += (f", {_q(s.pressure_at_mtsr_bar, 'bar', s.pressure_at_mtsr_interval_bar)} in "
+                 "the closed gas space at the MTSR")
         if s.design_pressure_bar is not None:
-            text += f" against a design pressure of {s.design_pressure_bar:.2f} bar"
+            text += f" against a design pressure of {_bar(s.design_pressure_bar)}"
     text += "; the vent and off-gas system must take it."
     sev = "critical" if s.pressure_exceeds_design else "caution"
     yield Finding("gas-and-pressure", sev, text,
-                  "Ideal-gas law, p = p_initial + n R T / V (closed vessel, no venting)")
+                  "Ideal-gas law, p = p_0 + nRT/V with p_0 the initial pressure (closed vessel, "
+                  "no venting)")
 
 
 def mismatch(subj: RuleSubject) -> Iterator[Finding]:
@@ -287,12 +324,13 @@ def mismatch(subj: RuleSubject) -> Iterator[Finding]:
     rel, absolute = subj.settings.enthalpy_mismatch_fraction, subj.settings.enthalpy_mismatch_kJ_mol
     if diff > absolute or diff > rel * abs(m):
         # a measured value of (nearly) zero has no meaningful relative difference
-        share = f"{diff / abs(m):.0%}" if diff <= 10 * abs(m) else \
+        share = policy.percent(diff / abs(m)) if diff <= 10 * abs(m) else \
             "over ten times the measured value"
         yield Finding("enthalpy-mismatch", "warning",
-                      f"Measured reaction enthalpy {m:.1f} kJ/mol differs from the computed "
-                      f"{c:.1f} kJ/mol by {diff:.1f} kJ/mol ({share}; threshold "
-                      f"{rel:.0%} or {absolute:.0f} kJ/mol); the measured value is "
+                      f"Measured reaction enthalpy {_q(m, 'kJ/mol')} differs from the computed "
+                      f"{_q(c, 'kJ/mol')} by {_q(diff, 'kJ/mol')} ({share}; threshold "
+                      f"{_plain(rel * 100, '%')} or {_plain(absolute, 'kJ/mol')}); the "
+                      "measured value is "
                       "used for the safety figures. Check the species data and the "
                       "measurement (side reactions, phase changes, dilution heat).",
                       "Project threshold (common practice, no source)")
@@ -322,10 +360,12 @@ def energetic(subj: RuleSubject) -> Iterator[Finding]:
         parts = []
         if high:
             parts.append(f"its most exothermic decomposition into simple products would release "
-                         f"{e.max_decomposition_J_per_g:.0f} J/g, above the {level:g} J/g screening level")
+                         f"{_q(e.max_decomposition_J_per_g, 'J/g')}, above the "
+                         f"{_plain(level, 'J/g')} screening level")
         if e.explosophores:
             parts.append("it carries explosophore groups (" + ", ".join(e.explosophores) + ")")
-        ob = (f"; oxygen balance {e.oxygen_balance_pct:.1f} %" if e.oxygen_balance_pct is not None
+        ob = (f"; oxygen balance {_q(e.oxygen_balance_pct, '%')}"
+              if e.oxygen_balance_pct is not None
               else "")
         yield Finding("energetic-species", "warning",
                       f"{e.species}: " + " and ".join(parts) + ob +
@@ -350,12 +390,15 @@ def mtsr_above_mtt(subj: RuleSubject) -> Iterator[Finding]:
         then = ("TD24 is not known, so whether the decomposition is triggered as well cannot "
                 "be said: measure it (DSC or adiabatic calorimetry)")
     elif s.mtsr_K >= s.td24_K:
-        then = f"the MTSR is also at or above TD24 {kelvin_celsius(s.td24_K)}"
+        then = (f"the MTSR is also at or above TD24 "
+                f"{kelvin_celsius(s.td24_K, interval=s.td24_interval_K)}")
     else:
-        then = f"the MTSR stays below TD24 {kelvin_celsius(s.td24_K)}"
+        then = f"the MTSR stays below TD24 {kelvin_celsius(s.td24_K, interval=s.td24_interval_K)}"
     yield Finding("mtsr-above-mtt", subj.settings.limit_finding("mtsr-above-mtt"),
                   f"After a cooling failure the reaction alone takes the mass to the MTSR "
-                  f"{kelvin_celsius(s.mtsr_K)}, {over:.1f} K above the MTT "
+                  f"{kelvin_celsius(s.mtsr_K, interval=s.mtsr_interval_K)}, "
+                  f"{_q(over, 'K', s.mtsr_interval_K)} "
+                  "above the MTT "
                   f"{kelvin_celsius(s.mtt_K)}: the mass boils if the MTT is its boiling point "
                   "(the condenser or vent must take the vapour at the rate it is made), or the "
                   f"vessel's temperature or pressure limit is passed (loss of containment); "
@@ -424,22 +467,23 @@ def pressure_severity(subj: RuleSubject) -> Iterator[Finding]:
     thermal = s.severity or levels[0]
     counts = max(level, thermal, key=lambda lv: levels.index(lv) if lv in levels else 0)
     if s.pressure_at_mtsr_bar is not None:
-        gas = f"gas {s.pressure_at_mtsr_bar:.2f} bar with the evolved gas"
+        gas = f"gas {_q(s.pressure_at_mtsr_bar, 'bar')} with the evolved gas"
     elif s.scale is not None and s.scale.gas_mol <= 0:
-        gas = f"the initial {subj.case.pressure / 1e5:g} bar; the reaction makes no gas"
+        gas = f"the initial {_bar(subj.case.pressure / 1e5)}; the reaction makes no gas"
     else:
-        gas = f"the initial {subj.case.pressure / 1e5:g} bar; the evolved gas not assessed"
+        gas = f"the initial {_bar(subj.case.pressure / 1e5)}; the evolved gas not assessed"
     vap = ", no liquid with a known boiling point"
     if vapours:
         top = max(vapours, key=lambda v: v[1])[0]
         t_b = next(float(u.stable_phase_K[-1]) for u in subj.species if u.key == top)
-        vap = f", vapour up to {p_vap / 1e5:.2f} bar ({top}"
+        vap = f", vapour up to {_q(p_vap / 1e5, 'bar')} ({top}"
         vap += (f", which boils at {kelvin_celsius(t_b)} at the case pressure: far above its "
                 "boiling point the estimate is rough)" if s.mtsr_K > t_b else ")")
     yield Finding("pressure-severity", subj.settings.severity_finding(counts),
-                  f"At the MTSR {kelvin_celsius(s.mtsr_K)} the closed gas space reaches about "
-                  f"{total / 1e5:.2f} bar ({gas}{vap}) against a design pressure of "
-                  f"{s.design_pressure_bar:.2f} bar: severity {level} on pressure, {thermal} on "
+                  f"At the MTSR {kelvin_celsius(s.mtsr_K, interval=s.mtsr_interval_K)} the closed "
+                  "gas space reaches about "
+                  f"{_q(total / 1e5, 'bar')} ({gas}{vap}) against a design pressure of "
+                  f"{_bar(s.design_pressure_bar)}: severity {level} on pressure, {thermal} on "
                   f"ΔT_ad; the severity that counts is {counts}. Relief and vent must be sized "
                   "for it.", VAPOUR_SOURCE)
 
@@ -449,8 +493,8 @@ MARGIN_SOURCE = ("Monte Carlo propagation of the stated uncertainties (each a 95
                  "central 95 % interval; boundaries and limits as on the methods page")
 
 
-def _signed(x: float | None, unit: str) -> str:
-    return "unbounded" if x is None else f"{x:+.3g} {unit}".replace("-", "−")
+def _signed(x: float | None, unit: str, interval=None) -> str:
+    return policy.signed(x, unit, interval)
 
 
 def borderline(subj: RuleSubject) -> Iterator[Finding]:
@@ -462,9 +506,11 @@ def borderline(subj: RuleSubject) -> Iterator[Finding]:
             continue
         lo, hi = m.interval
         yield Finding("borderline", level,
-                      f"{m.what[0].upper()}{m.what[1:]}: margin {_signed(m.nominal, m.unit)} "
-                      f"on the nominal figures, but its 95 % interval, {_signed(lo, m.unit)} to "
-                      f"{_signed(hi, m.unit)}, includes zero: {m.consequence}. The class or "
+                      f"{m.what[0].upper()}{m.what[1:]}: margin "
+                      f"{_signed(m.nominal, m.unit, m.interval)} on the nominal figures, but "
+                      f"its 95{_NB}% interval, {_signed(lo, m.unit, m.interval)} to "
+                      f"{_signed(hi, m.unit, m.interval)}, includes zero: {m.consequence}. "
+                      "The class or "
                       "level printed rests on the nominal figures; narrow the uncertainty "
                       "(measure the inputs that carry it) or design for the worse side.",
                       MARGIN_SOURCE)
@@ -474,8 +520,9 @@ def borderline(subj: RuleSubject) -> Iterator[Finding]:
     for c, (lo, hi) in zip(t.crossovers, t.crossover_intervals_K):
         if lo is not None and hi is not None and lo < hi and lo <= ch.process_temperature <= hi:
             yield Finding("borderline", level,
-                          f"The crossover at {kelvin_celsius(c.T)} ({c.direction}) has a 95 % "
-                          f"interval of {lo:.1f} to {hi:.1f} K, which includes the process "
+                          f"The crossover at {kelvin_celsius(c.T, interval=(lo, hi))} "
+                          f"({c.direction}) has a "
+                          f"{policy.interval((lo, hi), 'K', c.T)}, which includes the process "
                           f"temperature {kelvin_celsius(ch.process_temperature)}: within the "
                           "species data's uncertainty the reaction may be favourable or "
                           "unfavourable at standard state there.", MARGIN_SOURCE)

@@ -115,7 +115,7 @@ def sample_case(case: Case, resolution: Resolution, nus: tuple[float, ...],
         drawn = draw(rng, 0.0 if value is None else value, u, n, low, high)
         inputs[key] = None if value is None else drawn
         if value is not None and u > 0:
-            stated.append(f"{INPUT_WORDS[key]} ({key})")
+            stated.append(INPUT_WORDS[key])
     return Sampled(shifts, inputs, tuple(stated))
 
 

@@ -140,10 +140,14 @@ def meeting_unit_key(date: str, slug: str, case_keys: Sequence[str],
     return key("meeting", date, slug, *case_keys, *settings.parts())
 
 
-def register_key(case_keys: Sequence[str], failed: Sequence[CaseFailure],
+def register_key(case_keys: Sequence[str], failed: Sequence,
                  settings: BuildSettings) -> str:
-    return key("register", *settings.parts(), *case_keys,
-               json.dumps([[f.file, list(f.problems)] for f in failed]))
+    """``failed``: CaseFailures, or the register's rows of them (with their pages and the
+    revision of their last good assessment, which the register shows)."""
+    return key("register", *settings.parts(), *case_keys, json.dumps(
+        [[f.file, list(f.problems), getattr(f, "slug", ""),
+          str((getattr(f, "earlier", None) or {}).get("revision", "")),
+          list(getattr(f, "kept", ()))] for f in failed]))
 
 
 def build_key(settings: BuildSettings, strict: bool, paths: Sequence[Path],

@@ -26,7 +26,7 @@ from dossier.render.figures import case_figures, formula_svg, species_figure
 from dossier.render.guide import render_guide_pages
 from dossier.render.search import embeddable, search_index
 from dossier.render.maths import DerivationView, derivation_view, kirchhoff_assets
-from dossier.render.assembly import Part, assemble, page_counts
+from dossier.render.assembly import assemble, read_parts
 from dossier.render.packets import PdfAttachment, Printed, lay_out, stamp_sheet, write_pdf
 from dossier.render.slugs import slugify
 from dossier.render.views import CaseView, FailedCase, MeetingView, SpeciesView
@@ -189,12 +189,12 @@ def meeting_pdf(m: MeetingView, case_pdfs: Sequence[bytes], files: Mapping[str, 
     """The packet of a meeting: its cover, agenda and sign-off sheet (laid out here),
     then each case's finished packet as it is (``case_pdfs``, in the order of
     ``m.cases``), numbered through "page i of N" by one stamp sheet."""
-    counts = page_counts(case_pdfs)
+    parts = read_parts(case_pdfs, [f"Case {c.id}, revision {c.assessment.revision}: "
+                                   f"{c.assessment.title}" for c in m.cases])
+    counts = tuple(p.page_count for p in parts)
     cover = meeting_cover(m, counts, files)
     cover_pdf = write_pdf([cover], [attachment(c) for c in m.cases])
     sheet = stamp_sheet(f"Meeting packet {m.date}", cover.page_count + sum(counts))
-    parts = [Part(pdf, f"Case {c.id}, revision {c.assessment.revision}: {c.assessment.title}")
-             for c, pdf in zip(m.cases, case_pdfs)]
     return assemble(cover_pdf, parts, sheet)
 
 
@@ -207,14 +207,16 @@ def base_files(packets: bool = True) -> dict[str, bytes]:
     return files
 
 
-def failed_rows(failures: Sequence[CaseFailure]) -> tuple[FailedCase, ...]:
-    """The register names a bad file by its name, not by where the build ran."""
-    return tuple(FailedCase(Path(f.file).name,
+def failed_rows(failures: Sequence[CaseFailure | FailedCase]) -> tuple[FailedCase, ...]:
+    """The register names a bad file by its name, not by where the build ran (rows
+    made already, with their pages, are kept as they are)."""
+    return tuple(f if isinstance(f, FailedCase) else
+                 FailedCase(Path(f.file).name,
                             tuple(p.replace(f.file, Path(f.file).name, 1) for p in f.problems))
                  for f in failures)
 
 
-def site_pages(views: Sequence[CaseView], failed: Sequence[CaseFailure],
+def site_pages(views: Sequence[CaseView], failed: Sequence[CaseFailure | FailedCase],
                meetings: Sequence[MeetingView], packets: bool,
                methods: MethodSettings = DEFAULT) -> dict[str, bytes]:
     """The register, the methods page (of the policy in force), the guide and the

@@ -16,8 +16,17 @@
    then what the cases share: species pages, meeting packets
    (:func:`render_shared`), the register, methods page and guide
    (:func:`render_register`).  Every unit keeps its files in the cache.
+   A case that failed keeps its page (:func:`keep_failed`): what failed and
+   where, and its last good assessment from the site being replaced, marked
+   as not current, with that build's packets; a build without packets keeps
+   the packets it finds (:func:`keep_packets`) and says so.
 6. **publish** (:func:`publish`): :func:`dossier.build.writer.write_site`
    writes the whole site at once (temporary folder, then a swap).
+
+The whole build holds the site's lock (:class:`dossier.build.writer.SiteLock`):
+a second build into the same folder is refused at once, and every build
+first removes the temporary folders an interrupted one left (even when it
+then finds nothing changed).
 
 With ``strict=True`` a single failed case stops the build before anything
 is written.  Each unit of work is made once and kept in the cache under the
@@ -26,6 +35,7 @@ only what changed; :class:`BuildReport` counts the units made and reused.
 """
 from __future__ import annotations
 
+import dataclasses
 import json
 import time
 from dataclasses import dataclass, field
@@ -38,14 +48,19 @@ from dossier.build.keys import (MANIFEST_FORMAT, BuildSettings, build_key, build
                                 case_key, case_unit_key, meeting_unit_key, register_key,
                                 species_unit_key, unreadable_key, view_key)
 from dossier.build.layout import SiteLayout, site_layout
-from dossier.build.outputs import base_files, light_view, meeting_views, site_pages
+from dossier.build.outputs import (base_files, failed_rows, light_view, meeting_views,
+                                   site_pages)
 from dossier.build.pickles import loads
 from dossier.build.runner import Call, Progress, Runner
 from dossier.build.units import (UnitResult, cached_unit, store, unit_assess, unit_case,
                                  unit_meeting, unit_species)
-from dossier.build.writer import check_target, is_within, read_manifest, write_site
+from dossier.build.writer import (SiteLock, check_target, is_within, previous_file,
+                                  previous_files, read_manifest, read_previous, remove_stale,
+                                  write_site)
 from dossier.errors import CaseError, DossierError, Problem
-from dossier.render.views import CaseView, MeetingView
+from dossier.render.pages import render_failed_case_page
+from dossier.render.slugs import case_slugs, slugify
+from dossier.render.views import CaseView, FailedCase, MeetingView
 from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.review.inputs import CaseInputs, FileRead, policy_settings, read_case_inputs, read_policy
 
@@ -178,6 +193,8 @@ class SiteFiles:
     linked: dict[str, str] = field(default_factory=dict)
     problems: list[str] = field(default_factory=list)
     packets: list[str] = field(default_factory=list)
+    pages: dict[str, bytes] = field(default_factory=dict)  # made here: failed cases' pages
+    kept: dict[str, Path] = field(default_factory=dict)  # kept from the site it replaces
 
     def add(self, unit: UnitResult) -> None:
         self.linked.update(unit.files)
@@ -396,7 +413,7 @@ def render_shared(b: Build, layout: SiteLayout, ok: Sequence[CaseUnit], site: Si
 
 
 def render_register(b: Build, views: Sequence[CaseView], meetings: Sequence[MeetingView],
-                    ok: Sequence[CaseUnit], failed: Sequence[CaseFailure]) -> UnitResult:
+                    ok: Sequence[CaseUnit], failed: Sequence[FailedCase]) -> UnitResult:
     """The register, methods page, guide and stylesheets (in this process)."""
     k = register_key([u.key for u in ok], failed, b.settings)
     u = cached_unit(b.cache, "register", k)
@@ -408,21 +425,100 @@ def render_register(b: Build, views: Sequence[CaseView], meetings: Sequence[Meet
                                          **base_files(b.packets)})
 
 
+def earlier_export(data: bytes | None, file_name: str) -> dict | None:
+    """A previous site's data export of the case file ``file_name``, or None."""
+    try:
+        e = json.loads(data) if data else None
+    except ValueError:
+        return None
+    return e if isinstance(e, dict) and e.get("source_file") == file_name else None
+
+
+def keep_failed(b: Build, layout: SiteLayout, failed: Sequence[CaseFailure],
+                meetings: Sequence[MeetingView], site: SiteFiles) -> list[FailedCase]:
+    """Each failed case keeps its page (``cases/<slug>.html``, no 404): what failed and
+    where, and the last good assessment from the site this build replaces, marked not
+    current (its data export is kept as ``cases/<slug>.last-good.json``), with that
+    build's packet and meeting packet when this build makes none in their place."""
+    taken = {p for s in layout.case_slug.values() for p in (s, f"{s}-derivation")}
+    made = {m.slug for m in meetings} if b.packets else set()  # meeting packets made
+    rows = []
+    for f, row in zip(failed, failed_rows(failed)):
+        stem = Path(f.file).name.removesuffix(".md")
+        slug = case_slugs([stem])[stem]
+        if slug in taken or f"{slug}-derivation" in taken:  # a good case holds its page
+            rows.append(row)
+            continue
+        taken.update((slug, f"{slug}-derivation"))
+        e, data = None, None
+        for rel in (f"cases/{slug}.json", f"cases/{slug}.last-good.json"):
+            data = read_previous(b.target, rel)
+            e = earlier_export(data, row.file)
+            if e is not None:
+                break
+        kept = []
+        if e is not None:
+            site.pages[f"cases/{slug}.last-good.json"] = data
+            meeting = f"meeting-{slugify(str(e['meeting']))}" if e.get("meeting") else ""
+            if meeting in made:
+                site.problems.append(f"packets/{meeting}.pdf was made without case {stem}, "
+                                     "which failed to assess")
+            for rel in (f"packets/{slug}.pdf", f"packets/{meeting}.pdf" if meeting else ""):
+                old = previous_file(b.target, rel) if rel and rel not in site.linked else None
+                if old is not None:
+                    site.kept[rel] = old
+                    kept.append(rel)
+        if kept:
+            site.problems.append(f"case {stem} failed: kept {', '.join(kept)} from an "
+                                 "earlier build (not current)")
+        row = dataclasses.replace(row, slug=slug, earlier=e, kept=tuple(kept))
+        site.pages[f"cases/{slug}.html"] = render_failed_case_page(row).encode("utf-8")
+        rows.append(row)
+    return rows
+
+
+#: Beside packets kept by a build without packets.
+KEPT_PACKETS_NOTE = ("The PDF packets in this folder were printed by an earlier build and kept "
+                     "because the last build ran without packets (--no-packets). Each shows "
+                     "the revision and date it was printed for on its cover; they may not match "
+                     "the pages of this site. Build with packets to print them again.\n")
+
+
+def keep_packets(b: Build, site: SiteFiles) -> None:
+    """A build without packets keeps the packets of the site it replaces, says so
+    (a note, and ``packets/KEPT-FROM-AN-EARLIER-BUILD.txt``) and never deletes them."""
+    if b.packets:  # a build with packets prints its own (a failed case's are kept above)
+        return
+    old = [rel for rel in previous_files(b.target, "packets", ".pdf")
+           if rel not in site.kept and rel not in site.linked]
+    for rel in old:
+        site.kept[rel] = previous_file(b.target, rel)
+    if site.kept:
+        site.pages["packets/KEPT-FROM-AN-EARLIER-BUILD.txt"] = KEPT_PACKETS_NOTE.encode("utf-8")
+        site.problems.append(f"built without packets: kept {len(site.kept)} PDF packets of an "
+                             "earlier build in packets/ (not current; build with packets to "
+                             "print them again)")
+
+
 # --------------------------------------------------------------------------
 # Phase 6: publish
 
 def publish(b: Build, key: str, built: Sequence[str], failed: Sequence[CaseFailure],
-            site: SiteFiles) -> BuildReport:
+            site: SiteFiles, lock: SiteLock | None = None) -> BuildReport:
     """Write the whole site (linked from the cache's blobs) with its manifest."""
     manifest_files = {rel: b.cache.blob_path(d).stat().st_size
                       for rel, d in sorted(site.linked.items())}
+    manifest_files.update({rel: len(data) for rel, data in site.pages.items()})
+    manifest_files.update({rel: p.stat().st_size for rel, p in site.kept.items()})
     manifest = json.dumps({
         "format": MANIFEST_FORMAT, "key": key, "built": list(built),
         "failed": [[f.file, list(f.problems)] for f in failed], "packets": site.packets,
-        "notes": site.problems, "files": manifest_files}, indent=1, sort_keys=True).encode("utf-8")
-    result = write_site(b.out_dir, {}, protected=[b.cases_dir],
-                        linked={rel: b.cache.blob_path(d) for rel, d in site.linked.items()},
-                        manifest=manifest)
+        "notes": site.problems, "files": dict(sorted(manifest_files.items()))}, indent=1,
+        sort_keys=True).encode("utf-8")
+    result = write_site(b.out_dir, site.pages, protected=[b.cases_dir],
+                        linked={**{rel: b.cache.blob_path(d) for rel, d in site.linked.items()},
+                                **site.kept},
+                        manifest=manifest, lock=lock)
     return b.report(built, failed, written=True, files=result.files,
                     packets=tuple(site.packets), notes=tuple(site.problems))
 
@@ -462,6 +558,14 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
     """
     b = start_build(Path(cases_dir), Path(out_dir), strict, meeting, jobs, packets, cache_dir,
                     progress)
+    with SiteLock(b.target) as lock:  # one build at a time into this folder, start to end
+        remove_stale(b.target)  # whatever this build then finds (nothing changed too)
+        return locked_build(b, lock)
+
+
+def locked_build(b: Build, lock: SiteLock) -> BuildReport:
+    """The phases of :func:`build_site`, run while holding the site's lock."""
+    strict = b.strict
     read = read_cases(b.paths, b.policy)
     keys = plan_keys(read, b.settings)
     whole = build_key(b.settings, strict, b.paths, keys)
@@ -482,10 +586,12 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
         for _u, r in ok:
             site.add(r)
         views, meetings = render_shared(b, layout, [u for u, _r in ok], site)
-        site.add(render_register(b, views, meetings, [u for u, _r in ok], failed))
+        rows = keep_failed(b, layout, failed, meetings, site)
+        keep_packets(b, site)
+        site.add(render_register(b, views, meetings, [u for u, _r in ok], rows))
     finally:
         b.runner.close()
-    return publish(b, whole, built, failed, site)
+    return publish(b, whole, built, failed, site, lock)
 
 
 __all__ = ["UNIT_KINDS", "BuildReport", "build_site", "case_files", "default_cache_dir",

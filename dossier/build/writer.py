@@ -18,6 +18,12 @@ Where a site may be written (:func:`check_target`):
 
 Output paths are checked too (:func:`check_relpath`): relative, forward
 slashes, no ``..``, no empty or hidden parts, nothing outside the folder.
+
+One build at a time writes a site: :class:`SiteLock` (``flock`` on
+``.<name>.lock`` beside it, held by the build from start to end) refuses a
+second one.  Files of the site being replaced are read only through
+:func:`previous_file` (regular files inside it, no links), for what a build
+keeps: a failed case's last good data export and packets.
 """
 from __future__ import annotations
 
@@ -26,6 +32,7 @@ import ctypes.util
 import fcntl
 import os
 import shutil
+import stat
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path, PurePosixPath
@@ -146,10 +153,53 @@ def read_manifest(out_dir: Path) -> bytes | None:
         return None
 
 
-def _remove_stale(target: Path) -> int:
+def previous_file(out_dir: Path, rel: str) -> Path | None:
+    """A regular file of the site in ``out_dir`` that a build may keep or read (the
+    data export of a case that now fails, a packet an earlier build printed); None
+    when it is missing, a link or not a regular file, or the folder is no site."""
+    target = Path(out_dir)
+    path = target.joinpath(*check_relpath(rel).parts)
+    try:
+        if not (target / MARKER).is_file() or target.is_symlink():
+            return None
+        if any(p.is_symlink() for p in [path, *path.parents] if is_within(p, target)
+               and p != target):
+            return None
+        return path if stat.S_ISREG(path.stat(follow_symlinks=False).st_mode) else None
+    except OSError:
+        return None
+
+
+def read_previous(out_dir: Path, rel: str, limit: int = 8 << 20) -> bytes | None:
+    """The bytes of :func:`previous_file` (at most ``limit``), or None."""
+    path = previous_file(out_dir, rel)
+    if path is None:
+        return None
+    try:
+        with open(path, "rb") as fh:
+            data = fh.read(limit + 1)
+    except OSError:
+        return None
+    return data if len(data) <= limit else None
+
+
+def previous_files(out_dir: Path, folder: str, suffix: str) -> list[str]:
+    """The site paths of the regular files ``<folder>/*<suffix>`` in the site in ``out_dir``."""
+    base = Path(out_dir) / folder
+    try:
+        names = sorted(p.name for p in base.iterdir() if p.name.endswith(suffix))
+    except OSError:
+        return []
+    return [f"{folder}/{n}" for n in names
+            if not n.startswith(".") and previous_file(out_dir, f"{folder}/{n}") is not None]
+
+
+def remove_stale(target: Path) -> int:
     """Remove temporary folders that an interrupted build left beside ``target``.
 
-    Only called while holding the site's lock, so no running build owns them.
+    Called by every build while it holds the site's lock (:class:`SiteLock`), so
+    no running build owns them, whatever the build then finds (a "nothing
+    changed" build too).
     """
     removed = 0
     for pattern in (f".{target.name}.building-*", f".{target.name}.old-*"):
@@ -160,47 +210,93 @@ def _remove_stale(target: Path) -> int:
     return removed
 
 
-class _SiteLock:
-    """An exclusive lock on the folder that holds the site: one writer at a time.
+def lock_path(target: Path) -> Path:
+    """The lock file of a site: ``.<name>.lock`` beside it (there only while a build runs)."""
+    return target.parent / f".{target.name}.lock"
 
-    The lock is taken on the parent folder itself (``flock`` on a directory
-    descriptor), so no lock file is left anywhere; it is released when the
-    build ends, however it ends (the kernel drops it with the process).
+
+class SiteLock:
+    """An exclusive lock on one site folder: one build at a time writes into it.
+
+    A build holds it from before it reads the cases until its site is in place
+    (:func:`dossier.build.pipeline.build_site`), so a second build into the same
+    folder is refused at once instead of racing the first to the swap.  The lock
+    is ``flock`` on ``.<name>.lock`` beside the site; the kernel drops it with the
+    process, however that ends (SIGKILL included), and the holder removes the
+    file when it is done, so nothing is left beside the site (a file left by a
+    killed build is taken over by the next one).  Sites in the same parent folder
+    do not block each other.
     """
 
     def __init__(self, target: Path):
-        self.target = target
+        self.target = Path(target)
+        self.path = lock_path(self.target)
         self.fd: int | None = None
 
-    def __enter__(self) -> "_SiteLock":
-        self.fd = os.open(self.target.parent, os.O_RDONLY | getattr(os, "O_DIRECTORY", 0))
-        try:
-            fcntl.flock(self.fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-        except BlockingIOError:
-            os.close(self.fd)
-            self.fd = None
-            raise OutputError(Problem("another dossier build is writing into this folder right "
-                                      "now; wait for it to finish", str(self.target),
-                                      key="--out")) from None
-        return self
+    def _refusal(self) -> OutputError:
+        return OutputError(Problem("another dossier build is writing into this folder right "
+                                   f"now (it holds {self.path.name}); wait for it to finish",
+                                   str(self.target), key="--out"))
+
+    def __enter__(self) -> "SiteLock":
+        flags = (os.O_RDWR | os.O_CREAT | getattr(os, "O_NOFOLLOW", 0)
+                 | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_CLOEXEC", 0))
+        for _attempt in range(20):
+            try:
+                fd = os.open(self.path, flags, 0o644)
+            except OSError as err:
+                raise OutputError(Problem(f"cannot create the lock file {self.path.name} beside "
+                                          f"the site ({err.strerror})", str(self.target),
+                                          key="--out")) from None
+            try:
+                if not stat.S_ISREG(os.fstat(fd).st_mode):
+                    raise OutputError(Problem(f"{self.path} is not a regular file; remove it",
+                                              str(self.target), key="--out"))
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            except BlockingIOError:
+                os.close(fd)
+                raise self._refusal() from None
+            except BaseException:
+                os.close(fd)
+                raise
+            try:  # the holder before us may have removed the file we locked: lock the new one
+                same = os.stat(self.path, follow_symlinks=False).st_ino == os.fstat(fd).st_ino
+            except FileNotFoundError:
+                same = False
+            if same:
+                self.fd = fd
+                return self
+            os.close(fd)
+        raise self._refusal()
 
     def __exit__(self, *exc) -> None:
         if self.fd is not None:
+            try:
+                os.unlink(self.path)  # while still holding it: see the check in __enter__
+            except OSError:
+                pass
             fcntl.flock(self.fd, fcntl.LOCK_UN)
             os.close(self.fd)
+            self.fd = None
 
 
 def write_site(out_dir: Path, files: Mapping[str, bytes],
                protected: Iterable[Path] = (), linked: Mapping[str, Path] | None = None,
-               manifest: bytes | None = None) -> WriteResult:
+               manifest: bytes | None = None, lock: SiteLock | None = None) -> WriteResult:
     """Write ``files`` as the complete new content of ``out_dir``, atomically.
 
-    Holds an exclusive lock beside the site while writing, and first removes
-    what an interrupted earlier build left behind.
+    Holds the site's lock while writing (``lock``: the one the caller already
+    holds for this folder), and first removes what an interrupted earlier
+    build left behind.
     """
     target = check_target(out_dir, protected)
-    with _SiteLock(target):
-        _remove_stale(target)
+    if lock is not None:
+        if lock.fd is None or lock.target != target:
+            raise ValueError(f"the lock given is not held for {target}")
+        remove_stale(target)
+        return _write_site(target, out_dir, files, protected, linked, manifest)
+    with SiteLock(target):
+        remove_stale(target)
         return _write_site(target, out_dir, files, protected, linked, manifest)
 
 
@@ -257,5 +353,6 @@ def _write_site(target: Path, out_dir: Path, files: Mapping[str, bytes],
             shutil.rmtree(old, ignore_errors=True)
 
 
-__all__ = ["MANIFEST", "MARKER", "OutputError", "WriteResult", "check_relpath", "check_target",
-           "is_within", "read_manifest", "write_site"]
+__all__ = ["MANIFEST", "MARKER", "OutputError", "SiteLock", "WriteResult", "check_relpath",
+           "check_target", "is_within", "lock_path", "previous_file", "previous_files",
+           "read_manifest", "read_previous", "remove_stale", "write_site"]

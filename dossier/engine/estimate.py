@@ -37,7 +37,6 @@ errors of Tb, Tc and Pc through the correlations.
 from __future__ import annotations
 
 import functools
-import importlib.metadata
 import math
 import warnings
 from dataclasses import dataclass
@@ -166,6 +165,13 @@ def composition_of(mol) -> dict[str, float]:
 
 
 # -- Benson (pgradd) -------------------------------------------------------------
+
+def _version(package: str) -> str:
+    """The installed version of a method library, from its package metadata."""
+    import importlib.metadata  # deferred: about 20 ms (email, zipfile, csv)
+
+    return importlib.metadata.version(package)
+
 
 @functools.lru_cache(maxsize=1)
 def _benson_library():
@@ -422,9 +428,9 @@ def _gas(mol, method: str, settings: MethodSettings) -> _Gas:
                               f"Joback: {jwhy or 'a group has no heat-capacity value'}"])
     used = {hf.method, s.method, cp_method}
     if "Benson" in used:
-        sources.append(f"{BENSON_SOURCE} {importlib.metadata.version('pgradd')}")
+        sources.append(f"{BENSON_SOURCE} {_version('pgradd')}")
     if "Joback" in used:
-        sources.append(f"{JOBACK_SOURCE} {importlib.metadata.version('thermo')}")
+        sources.append(f"{JOBACK_SOURCE} {_version('thermo')}")
     groups = "; ".join(x for x in (f"Benson: {btext}" if btext and "Benson" in used else "",
                                    _joback_text(job) if "Joback" in used else "") if x)
     tb, tm = _joback_points(job, uj)
@@ -576,9 +582,9 @@ def estimate_species(smiles: str, phase: str, method: str,
                         gas.groups, gas.notes, gas.sources, gas.t_boil, gas.t_melt)
     hf, s, model, cp_u, notes = _liquid(gas, mol, settings)
     cp = Quantity(float(model.cp(T_REF)), cp_u, f"Rowlinson–Poling on {gas.cp_method} gas Cp")
-    joback = f"{JOBACK_SOURCE} {importlib.metadata.version('thermo')}"
+    joback = f"{JOBACK_SOURCE} {_version('thermo')}"
     sources = gas.sources + ((joback,) if joback not in gas.sources else ()) + (
-        f"{LIQUID_SOURCE}; chemicals {importlib.metadata.version('chemicals')}",)
+        f"{LIQUID_SOURCE}; chemicals {_version('chemicals')}",)
     return Estimate(smiles, phase, composition, hf, s, cp, model, gas.sigma, gas.groups,
                     gas.notes + notes, sources, gas.t_boil, gas.t_melt)
 

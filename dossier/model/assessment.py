@@ -116,6 +116,10 @@ class Thermodynamics:
     solution_states: tuple[SolutionState, ...] = ()  # at the low and high ends of the window
     #: 95 % interval of each crossover (K; None for an end beyond the scanned range).
     crossover_intervals_K: tuple[tuple[float | None, float | None], ...] = ()
+    #: The temperatures the crossover search covered (K): the window widened to the
+    #: species data's common range, within the method settings' scan limits.  For the
+    #: words "none between ... K"; not part of the JSON export.
+    crossover_search_K: tuple[float, float] | None = None
 
     @property
     def crossovers_in_window(self) -> tuple[Crossover, ...]:

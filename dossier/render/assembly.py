@@ -22,7 +22,7 @@ pypdf is imported only inside these functions.
 from __future__ import annotations
 
 import io
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Sequence
 
 #: The marked-content prefix of a stamp: a pagination artefact (ISO 32000-1, 14.8.2.2).
@@ -32,10 +32,24 @@ ARTIFACT_CLOSE = b"\nEMC\n"
 
 @dataclass(frozen=True)
 class Part:
-    """One finished PDF to append, and the bookmark title that leads to it."""
+    """One finished PDF to append, and the bookmark title that leads to it.
+
+    ``reader`` is a pypdf reader of ``pdf`` when one is open already
+    (:func:`read_parts`): parsing a tagged packet's object streams takes about
+    0.2 s, so a meeting packet reads each case packet once, for its page count
+    and for its pages."""
 
     pdf: bytes
     title: str
+    reader: object = field(default=None, compare=False, repr=False)
+
+    def pdf_reader(self):
+        """The pypdf reader of this part (its own, or a new one)."""
+        return self.reader if self.reader is not None else _reader(self.pdf)
+
+    @property
+    def page_count(self) -> int:
+        return len(self.pdf_reader().pages)
 
 
 def _reader(data: bytes):
@@ -47,6 +61,13 @@ def _reader(data: bytes):
 def page_counts(pdfs: Sequence[bytes]) -> tuple[int, ...]:
     """The number of pages of each PDF."""
     return tuple(len(_reader(d).pages) for d in pdfs)
+
+
+def read_parts(pdfs: Sequence[bytes], titles: Sequence[str]) -> tuple[Part, ...]:
+    """Parts with their readers open (each PDF parsed once, here)."""
+    if len(pdfs) != len(titles):
+        raise ValueError(f"{len(pdfs)} PDFs but {len(titles)} titles")
+    return tuple(Part(pdf, title, _reader(pdf)) for pdf, title in zip(pdfs, titles))
 
 
 def _nums(tree) -> list:
@@ -96,7 +117,7 @@ class _Merger:
     def append(self, part: Part) -> None:
         from pypdf.generic import NameObject, NumberObject
 
-        reader = _reader(part.pdf)
+        reader = part.pdf_reader()
         offset = self.next_key()
         first = len(self.writer.pages)
         for page in reader.pages:
@@ -199,4 +220,4 @@ def assemble(cover: bytes, parts: Sequence[Part], sheet: bytes | None = None) ->
     return out.getvalue()
 
 
-__all__ = ["ARTIFACT_CLOSE", "ARTIFACT_OPEN", "Part", "assemble", "page_counts"]
+__all__ = ["ARTIFACT_CLOSE", "ARTIFACT_OPEN", "Part", "assemble", "page_counts", "read_parts"]

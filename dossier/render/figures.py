@@ -483,8 +483,12 @@ def _species_figure(held: _Record) -> Figure:
 # --------------------------------------------------------------------------
 # formulas for print (weasyprint does not typeset MathML)
 
+@functools.lru_cache(maxsize=256)
 def formula_svg(latex: str, fontsize: float = 10.0) -> str:
-    """One line of LaTeX mathematics as SVG (matplotlib mathtext), sized to the formula."""
+    """One line of LaTeX mathematics as SVG (matplotlib mathtext), sized to the formula.
+
+    Remembered per process (the same formula is drawn once: the general forms
+    serve every packet of a build, and a build asks for them more than once)."""
 
     def draw():
         from matplotlib.figure import Figure as MplFigure

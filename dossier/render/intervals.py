@@ -7,8 +7,9 @@ list of what carried an uncertainty.  The numbers come from
 """
 from __future__ import annotations
 
+from dossier import number_policy as policy
 from dossier.model.assessment import Safety
-from dossier.render.numbers import NBSP, num
+from dossier.render.numbers import NBSP
 
 #: Below this share a class is not named beside the most likely one.
 LEAST_SHARE = 0.005
@@ -33,23 +34,25 @@ def _share(p: float) -> str:
     return f"{p * 100:.0f}{NBSP}%"
 
 
-def interval_text(pair, unit: str, digits: int = 1, scale: float = 1.0) -> str:
-    """'95 % interval 359.7 to 365.8 K', or '' when there is no interval or it has no
-    width at the digits printed (nothing uncertain was stated)."""
-    if not pair:
-        return ""
-    lo, hi = pair
-    lo_t = "unbounded" if lo is None else num(lo * scale, digits)
-    hi_t = "unbounded" if hi is None else num(hi * scale, digits)
-    if lo_t == hi_t:
-        return ""
-    return f"95{NBSP}% interval {lo_t} to {hi_t}{NBSP}{unit}"
+def interval_text(pair, unit: str, nominal: float | None = None) -> str:
+    """'95 % interval 359 to 375 K' (digits and unit scale by the number policy, as for
+    the ``nominal`` figure beside it), or '' when there is no interval or it has no width
+    at the digits printed (nothing uncertain was stated)."""
+    return policy.interval(pair, unit, nominal)
 
 
 def profile_banded(thermo) -> bool:
     """True when the profile's ΔG° intervals have a width worth printing (0.005 kJ/mol)."""
     return any(r.dG_low_kJ_mol is not None and r.dG_high_kJ_mol is not None
                and r.dG_high_kJ_mol - r.dG_low_kJ_mol >= 0.005 for r in thermo.profile)
+
+
+def conversion_banded(thermo) -> bool:
+    """True when some conversion's interval is wide enough to print (0.005 percentage
+    points, the digits of the conversion column); 100.00 to 100.00 says nothing."""
+    return any(r.conversion_low is not None and r.conversion_high is not None
+               and (r.conversion_high - r.conversion_low) * 100 >= 0.005
+               for r in thermo.profile)
 
 
 def stated_text(safety: Safety | None) -> str:
@@ -59,9 +62,11 @@ def stated_text(safety: Safety | None) -> str:
     if not safety.uncertain_inputs:
         return ("No input of this case states an uncertainty, so its figures are printed "
                 "without intervals.")
-    return (f"Intervals are central 95 % intervals from {safety.samples:,} Monte Carlo draws "
+    return (f"Intervals are central 95{NBSP}% intervals from {policy.count(safety.samples)} Monte "
+            "Carlo draws "
             f"of the stated uncertainties of: {', '.join(safety.uncertain_inputs)}. Every "
             "other input is taken as exact.")
 
 
-__all__ = ["LEAST_SHARE", "class_text", "interval_text", "profile_banded", "stated_text"]
+__all__ = ["LEAST_SHARE", "class_text", "conversion_banded", "interval_text", "profile_banded",
+           "stated_text"]

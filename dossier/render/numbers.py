@@ -1,20 +1,17 @@
-"""Numbers, units and status codes as the pages write them.
+"""Numbers, units and status codes as the pages write them: template filters over
+the number policy (:mod:`dossier.number_policy`), which the terminal and the
+assessment's own texts use as well.
 
-True minus signs, narrow no-break spaces between thousands and before units,
-kelvin with degrees Celsius, and "not assessed" where a value is missing.
-These are the template filters ``num``, ``sig``, ``unit``, ``temp``, ``pct``
-and ``words``; the terminal and the assessment's own messages use
-:func:`dossier.temperature.kelvin_celsius` instead.
+``num`` (a table column at a fixed number of decimals), ``sig`` (significant
+figures), ``unit`` (a figure with its unit: digits from its 95 % interval or
+the policy's default, unit scaled), ``temp`` (kelvin with degrees Celsius),
+``pct`` and ``words``.  Digits, separators, minus signs and units come from
+the policy only; nothing here decides them.
 """
 from __future__ import annotations
 
-import math
-
-from dossier.constants import ZERO_CELSIUS
-
-MINUS = "\u2212"
-NBSP = "\u00a0"
-THIN = "\u202f"  # narrow no-break space: thousands separator and before units
+from dossier import number_policy as policy
+from dossier.number_policy import MINUS, UNIT_SPACE as NBSP, GROUP as THIN, superscript
 
 STATUS_WORDS = {
     "draft": "draft",
@@ -25,63 +22,47 @@ STATUS_WORDS = {
     "withdrawn": "withdrawn",
 }
 
-_SUPERSCRIPTS = str.maketrans("0123456789-+", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺")
-
-
-def _missing(x: float | None) -> bool:
-    return x is None or (isinstance(x, float) and not math.isfinite(x))
-
 
 def num(x: float | None, digits: int = 2, group: bool = True) -> str:
-    """A number with a true minus sign and narrow spaces between thousands."""
-    if _missing(x):
-        return "–"
-    text = f"{abs(x):,.{digits}f}" if group else f"{abs(x):.{digits}f}"
-    text = text.replace(",", THIN)
-    if x < 0 and float(text.replace(THIN, "")) != 0:
-        text = MINUS + text
-    return text
+    """A table cell at ``digits`` decimals (a column reads to one step), true minus,
+    thousands grouped by the policy; "–" when missing."""
+    return policy.fixed(x, digits, group)
 
 
-def superscript(text: str) -> str:
-    """Digits and signs as Unicode superscripts: ``-3`` → ``⁻³``."""
-    return text.translate(_SUPERSCRIPTS)
+def sig(x: float | None, figures: int = policy.DEFAULT_FIGURES) -> str:
+    """A number to ``figures`` significant figures ("1.23 × 10⁹" for extremes)."""
+    return policy.significant(x, figures)
 
 
-def sig(x: float | None, figures: int = 4) -> str:
-    """A number to ``figures`` significant figures (plain or ×10ⁿ for very large/small)."""
-    if _missing(x):
-        return "–"
-    if x == 0:
-        return "0"
-    exp = math.floor(math.log10(abs(x)))
-    if -4 <= exp < 7:
-        digits = max(0, figures - 1 - exp)
-        return num(x, digits)
-    mant = x / 10 ** exp
-    return f"{num(mant, figures - 1)}{NBSP}×{NBSP}10{superscript(str(exp))}"
+def _no_digits(value, name: str) -> None:
+    if isinstance(value, int) and not isinstance(value, bool):
+        raise TypeError(f"{name}: the number policy sets the digits; pass an interval "
+                        "(or figures=) instead of a count of decimals")
 
 
-def unit(x: float | None, u: str, digits: int = 2) -> str:
-    """'12.30 kJ/mol'; 'not assessed' for a missing value."""
-    if _missing(x):
-        return "not assessed"
-    return f"{num(x, digits)}{NBSP}{u}"
+def unit(x: float | None, u: str, interval=None, figures: int | None = None) -> str:
+    """'3.62 GJ', '442 bar' by the policy (digits from ``interval``, a 95 % interval, where
+    one is known); 'not assessed' for a missing value."""
+    _no_digits(interval, "unit()")
+    return policy.quantity(x, u, interval, figures)
 
 
-def temp(T: float | None, digits: int = 2, missing: str = "not assessed") -> str:
-    """'435.21 K (162.06 °C)'; ``missing`` for an absent value."""
-    if _missing(T):
-        return missing
-    return (f"{num(T, digits, group=False)}{NBSP}K "
-            f"({num(T - ZERO_CELSIUS, digits, group=False)}{NBSP}°C)")
+def temp(T: float | None, missing: str = policy.MISSING, interval=None) -> str:
+    """'435.2 K (162.1 °C)' (0.1 K, or the digits of its 95 % interval); ``missing`` for
+    an absent value."""
+    _no_digits(missing, "temp()")
+    return policy.temperature(T, interval, missing_text=missing)
 
 
-def pct(x: float | None, digits: int = 1) -> str:
+def given(x: float | None, u: str, missing: str = "not given") -> str:
+    """An input as the case gives it: '4 h', '0.8 m³' (no digits added)."""
+    return policy.given(x, u, missing)
+
+
+def pct(x: float | None, interval=None) -> str:
     """A fraction as a percentage: ``0.125`` → '12.5 %'."""
-    if x is None:
-        return "not assessed"
-    return f"{num(x * 100.0, digits)}{NBSP}%"
+    _no_digits(interval, "pct()")
+    return policy.percent(x, interval)
 
 
 def words(text: str | None) -> str:
@@ -98,5 +79,5 @@ def sign_words(x: float | None, positive: str, negative: str, zero: str = "zero"
     return positive if x > 0 else negative if x < 0 else zero
 
 
-__all__ = ["MINUS", "NBSP", "STATUS_WORDS", "THIN", "num", "pct", "sig", "sign_words",
+__all__ = ["MINUS", "NBSP", "STATUS_WORDS", "THIN", "given", "num", "pct", "sig", "sign_words",
            "superscript", "temp", "unit", "words"]

@@ -31,6 +31,8 @@ import math
 from importlib.resources import files
 from typing import Iterable, Sequence
 
+from markupsafe import Markup
+
 from dossier.assess import rules
 from dossier.assess.evaluate import CAUTIONS
 from dossier.chem.phases import PHASE_NAMES
@@ -44,8 +46,12 @@ from dossier.render.chemistry import formula_html, key_html, reaction_html
 from dossier.render.export import CASE_TABLE_NAMES
 from dossier.render.markdown_html import narrative_html
 from dossier.render.maths import KIRCHHOFF, METHODS_MATH, kirchhoff_assets, mathml
-from dossier.render.intervals import class_text, interval_text, profile_banded, stated_text
-from dossier.render.numbers import num, pct, sig, sign_words, temp, unit, words
+from dossier.render.intervals import (class_text, conversion_banded, interval_text,
+                                      profile_banded, stated_text)
+from dossier.render.numbers import given, num, pct, sig, sign_words, temp, unit, words
+from dossier.render.phrases import (board_html, crossover_text, not_assessed_rows,
+                                    safety_rows)
+from dossier import number_policy
 from dossier.render.views import (FAVOURABLE_WORDS, CaseView, FailedCase, MeetingView,
                                   SpeciesView, approval_mark, crossover_summary,
                                   open_conditions, review_record_status, signoff_roles,
@@ -69,7 +75,8 @@ def environment():
                              lstrip_blocks=True, keep_trailing_newline=True)
     env.filters.update(num=num, sig=sig, unit=unit, temp=temp, pct=pct, words=words,
                        reaction=reaction_html, key=key_html, formula=formula_html,
-                       math=mathml, within=interval_text)
+                       math=mathml, within=interval_text, board=_board, given=given,
+                       signed=number_policy.signed, plain=number_policy.plain)
     env.globals.update(
         SEVERITIES=SEVERITIES, FAVOURABLE_WORDS=FAVOURABLE_WORDS, verdict_summary=verdict_summary,
         crossover_summary=crossover_summary, worst_finding=worst_finding,
@@ -77,8 +84,15 @@ def environment():
         narrative_html=narrative_html, KIRCHHOFF=KIRCHHOFF, kirchhoff_assets=kirchhoff_assets,
         ZERO_CELSIUS=ZERO_CELSIUS, PHASE_NAMES=PHASE_NAMES, cautions=CAUTIONS,
         METHODS_MATH=METHODS_MATH, class_text=class_text, stated_text=stated_text,
-        profile_banded=profile_banded, CSV_TABLES=CASE_TABLE_NAMES)
+        profile_banded=profile_banded, conversion_banded=conversion_banded, CSV_TABLES=CASE_TABLE_NAMES,
+        crossover_text=crossover_text, safety_rows=safety_rows,
+        not_assessed_rows=not_assessed_rows)
     return env
+
+
+def _board(text) -> Markup:
+    """The page form of an assessment text (:func:`phrases.board_html`), marked safe."""
+    return Markup(board_html(text))
 
 
 def render_template(template: str, **context) -> str:
@@ -324,3 +338,42 @@ __all__ = [
     "render_meeting_packet", "render_methods_page", "render_register", "render_species_page",
     "render_template", "script_hash", "template_text",
 ]
+
+
+# --------------------------------------------------------------------------
+# A case that failed to assess
+
+def render_failed_case_page(f: FailedCase) -> str:
+    """The page of a case file that failed: its problems (file, line, key) and, marked
+    as not current, the headline figures of its last good assessment (``f.earlier``,
+    that build's data export), or a statement that there is none."""
+    e = f.earlier if isinstance(f.earlier, dict) else None
+    rows, findings = [], []
+    if e is not None:
+        s = e.get("safety") if isinstance(e.get("safety"), dict) else {}
+        std = e.get("standard_298K") if isinstance(e.get("standard_298K"), dict) else {}
+
+        def number(x, text):
+            return text(x) if isinstance(x, (int, float)) and not isinstance(x, bool) else "–"
+
+        rows = [("title", str(e.get("title", "–"))),
+                ("status", words(str(e.get("status") or "–"))),
+                ("meeting", str(e.get("meeting") or "none")),
+                ("reaction", str(e.get("reaction", "–"))),
+                ("ΔrH° at 298.15 K", number(std.get("dH_kJ_mol"), lambda x: f"{sig(x)} kJ/mol")),
+                ("ΔrG° at 298.15 K", number(std.get("dG_kJ_mol"), lambda x: f"{sig(x)} kJ/mol")),
+                ("criticality class", str(s.get("criticality_class") or "not assessed")),
+                ("severity", str(s.get("severity") or "not assessed")),
+                ("adiabatic temperature rise", number(s.get("adiabatic_rise_K"),
+                                                      lambda x: f"{sig(x)} K")),
+                ("MTSR", number(s.get("mtsr_K"), temp)),
+                ("MTT", number(s.get("mtt_K"), temp)),
+                ("TD24", number(s.get("td24_K"), temp))]
+        for item in e.get("findings") or ():
+            if isinstance(item, dict) and item.get("severity") in SEVERITIES:
+                findings.append((item["severity"], str(item.get("text", ""))))
+    case_id = f.file[:-3] if f.file.endswith(".md") else f.file
+    return render_template("failed_case.html", root="../", f=f, e=e, rows=rows,
+                           findings=findings, case_id=case_id, csp=content_policy(),
+                           meeting_kept=any(k.startswith("packets/meeting-") for k in f.kept),
+                           page_title=f"{case_id}: could not be assessed")

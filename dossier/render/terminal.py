@@ -1,43 +1,53 @@
-"""Plain-text rendering of an assessment for the terminal (`dossier evaluate`)."""
+"""Plain-text rendering of an assessment for the terminal (`dossier evaluate`).
+
+Every number goes through the number policy (:mod:`dossier.number_policy`) and
+every phrase the dossier page shows as well comes from
+:mod:`dossier.render.phrases`, so the terminal and the page say the same.
+"""
 from __future__ import annotations
 
-from dossier.render.intervals import class_text, interval_text, stated_text
+from dossier import number_policy as policy
 from dossier.model.assessment import Assessment, Safety, Thermodynamics
+from dossier.render.intervals import class_text, stated_text
+from dossier.render.phrases import crossover_text, not_assessed_rows, safety_rows, temperature_text
 from dossier.temperature import kelvin_celsius
+
+#: Decimals of the profile table's columns (each column reads to one step); the dossier
+#: page's table uses the same.
+PROFILE_DECIMALS = {"T": 2, "dH": 1, "dS": 1, "dG": 1, "lnK": 2, "dS_surr": 1, "dS_univ": 1,
+                    "q_surr": 1, "X": 2}
 
 
 def _T(T: float) -> str:
-    return kelvin_celsius(T, 2)
+    return kelvin_celsius(T)
 
 
-def _opt(value, fmt: str, unit: str = "") -> str:
-    return "not assessed" if value is None else (format(value, fmt) + (f" {unit}" if unit else ""))
+def _col(x: float, key: str, width: int) -> str:
+    return policy.fixed(x, PROFILE_DECIMALS[key]).rjust(width)
 
 
 def _thermo_lines(t: Thermodynamics) -> list[str]:
     """Reaction, window, standard values, crossovers and the profile table."""
     out: list[str] = []
     out.append(f"reaction   {t.reaction}")
-    out.append(f"window     {_T(t.window_K[0])} to {_T(t.window_K[1])} at {t.pressure_bar:g} bar")
-    out.append(f"at 298.15 K: ΔH° = {t.dH298_kJ_mol:.2f} kJ/mol, ΔS° = {t.dS298_J_molK:.2f} J/(mol·K), "
-               f"ΔG° = {t.dG298_kJ_mol:.2f} kJ/mol")
-    if t.crossovers:
-        for c in t.crossovers:
-            where = "inside" if t.window_K[0] <= c.T <= t.window_K[1] else "outside"
-            out.append(f"crossover  ΔG° = 0 at {_T(c.T)}, {c.direction} ({where} the window)")
-    else:
-        out.append(f"crossover  none between {t.data_range_K[0]:.0f} and {t.data_range_K[1]:.0f} K "
-                   "(the data range examined)")
+    out.append(f"window     {_T(t.window_K[0])} to {_T(t.window_K[1])} at "
+               f"{policy.plain(t.pressure_bar)}{policy.UNIT_SPACE}bar")
+    out.append(f"at 298.15 K: ΔH° = {policy.quantity(t.dH298_kJ_mol, 'kJ/mol')}, "
+               f"ΔS° = {policy.quantity(t.dS298_J_molK, 'J/(mol·K)')}, "
+               f"ΔG° = {policy.quantity(t.dG298_kJ_mol, 'kJ/mol')}")
+    out.append(f"crossover  {crossover_text(t)}")
     out.append("")
     head = (f"{'T/K':>8} {'ΔH°/kJ mol-1':>13} {'ΔS°/J mol-1K-1':>15} {'ΔG°/kJ mol-1':>13} "
-            f"{'ln K':>10} {'ΔS_surr':>10} {'ΔS_univ':>10} {'q_surr/kJ':>10} {'X_eq':>8}")
+            f"{'ln K':>10} {'ΔS_surr':>10} {'ΔS_univ':>10} {'q_surr/kJ':>10} {'X_eq/%':>8}")
     out.append(head)
     out.append("-" * len(head))
     for r in t.profile:
         flag = (" *" if r.extrapolated else "") + (" <" if r.requested else "")
-        out.append(f"{r.T_K:8.2f} {r.dH_kJ_mol:13.3f} {r.dS_J_molK:15.3f} {r.dG_kJ_mol:13.3f} "
-                   f"{r.lnK:10.3f} {r.dS_surr_J_molK:10.2f} {r.dS_univ_J_molK:10.2f} "
-                   f"{r.q_surr_kJ_mol:10.3f} {r.conversion:8.4f}{flag}")
+        out.append(f"{_col(r.T_K, 'T', 8)} {_col(r.dH_kJ_mol, 'dH', 13)} "
+                   f"{_col(r.dS_J_molK, 'dS', 15)} {_col(r.dG_kJ_mol, 'dG', 13)} "
+                   f"{_col(r.lnK, 'lnK', 10)} {_col(r.dS_surr_J_molK, 'dS_surr', 10)} "
+                   f"{_col(r.dS_univ_J_molK, 'dS_univ', 10)} {_col(r.q_surr_kJ_mol, 'q_surr', 10)} "
+                   f"{_col(r.conversion * 100, 'X', 8)}{flag}")
     out.append("ΔS_surr = −ΔH°/T and ΔS_univ = ΔS° + ΔS_surr in J/(mol·K); q_surr = −ΔH° per mole "
                f"of reaction; X_eq = equilibrium conversion of {t.basis}"
                + (" (all or nothing: " + t.equilibrium_note + ")" if t.equilibrium_mode == "all-or-nothing" else "")
@@ -54,7 +64,7 @@ def _solution_lines(t: Thermodynamics) -> list[str]:
     for member, groups, origin in t.solution_groups:
         out.append(f"           {member}: {groups} ({origin})")
     for st in t.solution_states:
-        parts = ", ".join(f"{m} x {x:.4f} γ {g:.4f}"
+        parts = ", ".join(f"{m} x {policy.fixed(x, 4)} γ {policy.fixed(g, 4)}"
                           for m, x, g in zip(t.solution_members, st.x, st.gamma))
         out.append(f"           at {_T(st.T_K)}: {parts}")
     return out
@@ -65,41 +75,25 @@ def _safety_lines(s: Safety) -> list[str]:
     out: list[str] = ["", "Thermal safety (cooling-failure scenario)"]
     sc = s.scale
     if sc:
-        out.append(f"  reaction enthalpy used   {sc.enthalpy_used_kJ_mol:.1f} kJ/mol ({sc.enthalpy_origin}"
-                   + (f"; computed {sc.enthalpy_computed_kJ_mol:.1f}" if sc.enthalpy_origin == "measured" else "")
-                   + ")")
-        out.append(f"  heat released per batch  {sc.heat_released_kJ:,.0f} kJ ({sc.heat_released_kJ_per_kg:.1f} kJ/kg)")
-        out.append(f"  entropy per batch        system {sc.entropy_system_kJ_per_K:,.2f} kJ/K, surroundings "
-                   f"{sc.entropy_surroundings_kJ_per_K:,.2f} kJ/K, universe {sc.entropy_universe_kJ_per_K:,.2f} kJ/K")
+        q = policy.quantity
+        out.append(f"  reaction enthalpy used   {q(sc.enthalpy_used_kJ_mol, 'kJ/mol')} ({sc.enthalpy_origin}"
+                   + (f"; computed {q(sc.enthalpy_computed_kJ_mol, 'kJ/mol')}"
+                      if sc.enthalpy_origin == "measured" else "") + ")")
+        out.append(f"  heat released per batch  {q(sc.heat_released_kJ, 'kJ')} "
+                   f"({q(sc.heat_released_kJ_per_kg, 'kJ/kg')})")
+        out.append(f"  entropy per batch        system {q(sc.entropy_system_kJ_per_K, 'kJ/K')}, "
+                   f"surroundings {q(sc.entropy_surroundings_kJ_per_K, 'kJ/K')}, "
+                   f"universe {q(sc.entropy_universe_kJ_per_K, 'kJ/K')}")
         out.append(f"                           {sc.entropy_reading}")
-    out.append(f"  adiabatic rise ΔT_ad     {_opt(s.adiabatic_rise_K, '.1f', 'K')}"
-               + (f" (severity {s.severity})" if s.severity else ""))
-    out.append(f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}"
-               + _within(s.mtsr_interval_K, "K"))
-    out.append(f"  MTT                      {_T(s.mtt_K) if s.mtt_K else 'not given'}")
-    out.append(f"  TD24                     {_T(s.td24_K) + ' (' + s.td24_origin + ')' if s.td24_K else 'not assessed'}"
-               + _within(s.td24_interval_K, "K"))
-    out.append(f"  TMRad at MTSR            {_opt(s.tmrad_at_mtsr_h, '.1f', 'h')}"
-               + (f" (probability {s.probability})" if s.probability else "")
-               + _within(s.tmrad_at_mtsr_interval_h, "h"))
-    out.append(f"  criticality class        {class_text(s)}")
-    out.append(f"  after decomposition      {_T(s.final_temperature_K) if s.final_temperature_K else 'not assessed'}")
-    out.append(f"  cooling margin           {_opt(s.cooling_margin_kW, '.1f', 'kW')}")
-    no_gas = sc is not None and sc.gas_mol <= 0
-    out.append("  pressure at MTSR         " + ("no gas released" if no_gas else
-                                                _opt(s.pressure_at_mtsr_bar, '.2f', 'bar')))
-    for fig, miss in s.not_assessed:
-        out.append(f"  not assessed: {fig} — needs {', '.join(miss)}")
+    for label, text in safety_rows(s):
+        out.append(f"  {label:<24} {text}")
+    for fig, needs in not_assessed_rows(s):
+        out.append(f"  not assessed: {fig} — needs {needs}")
     for n in s.notes:
         out.append(f"  note: {n}")
     if stated_text(s):
         out.append(f"  uncertainty: {stated_text(s)}")
     return out
-
-
-def _within(pair, unit: str) -> str:
-    text = interval_text(pair, unit)
-    return f"; {text}" if text else ""
 
 
 def _variant_lines(a: Assessment) -> list[str]:
@@ -110,8 +104,7 @@ def _variant_lines(a: Assessment) -> list[str]:
         worst = max(v.findings, key=lambda f: f.rank).severity if v.findings else "none"
         out += ["", f"Variant: {v.name}",
                 "  changes                  " + "; ".join(f"{k} = {val}" for k, val in v.changes),
-                f"  MTSR                     {_T(s.mtsr_K) if s.mtsr_K else 'not assessed'}"
-                + _within(s.mtsr_interval_K, "K"),
+                f"  MTSR                     {temperature_text(s.mtsr_K, s.mtsr_interval_K)}",
                 f"  criticality class        {class_text(s)}",
                 f"  most severe finding      {worst}"]
     return out

@@ -6,12 +6,12 @@ integrity in words.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Sequence
 
-from dossier.constants import ZERO_CELSIUS
 from dossier.render.maths import DerivationView
-from dossier.render.numbers import num, words
+from dossier.render.numbers import words
+from dossier.render.phrases import crossover_text
 from dossier.render.species_text import DATA_RANGE_MEANING, phase_lines
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -76,8 +76,19 @@ class SpeciesView:
 
 @dataclass(frozen=True)
 class FailedCase:
+    """A case file that failed to assess (or render) in this build, with its page.
+
+    ``slug`` names its page (``cases/<slug>.html``, "" when it has none);
+    ``earlier`` is the data export (``cases/<slug>.json``) of the last build that
+    assessed it, shown as not current, or None when no earlier good build is
+    known; ``kept`` are the packets of that build kept in the site.
+    """
+
     file: str
     problems: tuple[str, ...]
+    slug: str = ""
+    earlier: dict | None = field(default=None, compare=False, hash=False)
+    kept: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -98,17 +109,8 @@ def verdict_summary(reviews: Sequence["Review"]) -> str:
 
 
 def crossover_summary(a: "Assessment") -> str:
-    t = a.thermo
-    if not t.crossovers:
-        return (f"none between {num(t.data_range_K[0], 0)} and "
-                f"{num(max(t.data_range_K[1], t.window_K[1]), 0)} K")
-    parts = []
-    lo, hi = t.window_K
-    for c in t.crossovers:
-        where = "in the window" if lo <= c.T <= hi else "outside the window"
-        parts.append(f"{num(c.T, 1, False)} K ({num(c.T - ZERO_CELSIUS, 1, False)} °C), "
-                     f"{c.direction}, {where}")
-    return "; ".join(parts)
+    """The crossovers in words, as the terminal prints them (:func:`phrases.crossover_text`)."""
+    return crossover_text(a.thermo)
 
 
 def worst_finding(a: "Assessment"):

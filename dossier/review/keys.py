@@ -18,12 +18,10 @@ import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from cryptography.exceptions import UnsupportedAlgorithm
-from cryptography.hazmat.primitives import serialization
-from cryptography.hazmat.primitives.asymmetric.ed25519 import (Ed25519PrivateKey,
-                                                               Ed25519PublicKey)
-
 from dossier.errors import Problem, SignatureError
+
+# cryptography (Ed25519PrivateKey, Ed25519PublicKey in the annotations) is imported in
+# the functions that use it: reading a case's files needs only the paths of this module.
 
 #: The only key type of the trusted-keys file.
 KEY_TYPE = "ed25519"
@@ -125,6 +123,9 @@ def decode_utf8(data: bytes, filename: str) -> str:
 
 def public_key_text(key: Ed25519PrivateKey | Ed25519PublicKey) -> str:
     """Standard base64 of the raw 32-byte public key."""
+    from cryptography.hazmat.primitives import serialization
+    from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
+
     public = key.public_key() if isinstance(key, Ed25519PrivateKey) else key
     raw = public.public_bytes(serialization.Encoding.Raw, serialization.PublicFormat.Raw)
     return base64.b64encode(raw).decode("ascii")
@@ -157,6 +158,9 @@ def generate_keypair(name: str, role: str) -> tuple[bytes, str]:
     """A new Ed25519 key: (private key as unencrypted PKCS#8 PEM, trusted-keys line)."""
     _check_person(name, "name", bar_allowed=False)
     _check_person(role, "role", bar_allowed=True)
+    from cryptography.hazmat.primitives import serialization
+    from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
+
     private = Ed25519PrivateKey.generate()
     pem = private.private_bytes(serialization.Encoding.PEM, serialization.PrivateFormat.PKCS8,
                                 serialization.NoEncryption())
@@ -201,6 +205,10 @@ def write_private_key(path: str | Path, pem: bytes) -> None:
 
 def load_private_key(path: str | Path) -> Ed25519PrivateKey:
     """The Ed25519 private key in ``path``; refused when other users may read or change the file."""
+    from cryptography.exceptions import UnsupportedAlgorithm
+    from cryptography.hazmat.primitives import serialization
+    from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
+
     shown = str(path)
     try:
         fd = os.open(path, os.O_RDONLY)

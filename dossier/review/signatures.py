@@ -31,10 +31,6 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Iterable, Mapping
 
-from cryptography.exceptions import InvalidSignature
-from cryptography.hazmat.primitives.asymmetric.ed25519 import (Ed25519PrivateKey,
-                                                               Ed25519PublicKey)
-
 from dossier.errors import Problem, SignatureError
 from dossier.model.case import Verdict
 from dossier.review.keys import (PUBLIC_KEY_BYTES, bad_char,
@@ -296,6 +292,9 @@ def _verdict_problem(verdict: str, conditions: str, note: str = "") -> str | Non
 
 def verify_signature(public_key: bytes, signature: bytes, message: bytes) -> bool:
     """True when ``signature`` is a valid Ed25519 signature of ``message`` by ``public_key``."""
+    from cryptography.exceptions import InvalidSignature
+    from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PublicKey
+
     try:
         Ed25519PublicKey.from_public_bytes(public_key).verify(signature, message)
     except (InvalidSignature, ValueError):

@@ -32,7 +32,8 @@ PACKAGE = "dossier"
 SOURCE_ROOT = Path(__file__).resolve().parents[2]
 
 # -- the layers, lowest first -----------------------------------------------
-BASE_MODULES = ("dossier", "dossier.constants", "dossier.temperature", "dossier.errors")
+BASE_MODULES = ("dossier", "dossier.constants", "dossier.number_policy", "dossier.temperature",
+                "dossier.errors")
 LAYERS = ("base", "chem", "model", "casefile", "library", "engine", "assess", "review",
           "render", "build", "cli")
 
@@ -45,13 +46,14 @@ PRESENTATION_LIBRARIES = frozenset({
 # them is slow (cost measured with `python -X importtime`, cumulative) or may fail,
 # and most commands never need them.  Everything else, our own modules and the
 # standard library included, is imported at the top of the module.  (Not listed:
-# numpy, imported everywhere anyway; cryptography, about 15 ms and imported at
-# the top of the signature module; pypdf, which only the tests use.)
+# numpy, imported everywhere anyway.)
 HEAVY_PACKAGES = {
     "sympy": "about 330 ms; only for formulas shown as mathematics",
     "matplotlib": "200-450 ms; only for figures",
     "weasyprint": "about 550 ms and native libraries; only for PDF packets",
     "pypdf": "about 200 ms; only to put meeting packets together from the case packets",
+    "cryptography": "about 25-35 ms (exceptions, serialization, ed25519; cumulative); only to "
+                    "make keys, sign and verify, which `dossier evaluate` and `check` never do",
     "scipy": "scipy.optimize about 420 ms; only for the solvers",
     "pint": "about 170 ms and a unit registry; only at the unit edge",
     "rdkit": "optional (installed for the tests); rdkit.Chem about 85 ms",
@@ -75,6 +77,9 @@ HEAVY_PACKAGES = {
 # about 1 ms and go at the top; the exceptions are listed with their reason.
 LAZY_STANDARD_LIBRARY = {
     "http.server": "about 30 ms (email, html, socketserver); only for `dossier serve`",
+    "importlib.metadata": "about 18 ms (email, zipfile, csv; `python -X importtime`, "
+                          "cumulative); only to name the versions of the method libraries "
+                          "an integrity record rests on, which `dossier evaluate` never prints",
 }
 
 

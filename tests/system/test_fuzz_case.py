@@ -403,9 +403,10 @@ def test_a_measured_enthalpy_of_zero_is_compared_without_a_percentage(library):
     case = load_case(HOSTILE / "measured_enthalpy_zero.md")
     findings = assess_case(case, library).to_dict()["findings"]
     (finding,) = [f for f in findings if f["rule"] == "enthalpy-mismatch"]
-    assert finding["text"].startswith("Measured reaction enthalpy 0.0 kJ/mol differs from "
-                                      "the computed ")
-    threshold = (f"{DEFAULT.enthalpy_mismatch_fraction:.0%} or "
-                 f"{DEFAULT.enthalpy_mismatch_kJ_mol:.0f} kJ/mol")
+    # figures by the number policy: no-break space before a unit, thresholds as given
+    assert finding["text"].startswith("Measured reaction enthalpy 0.0\u00a0kJ/mol differs "
+                                      "from the computed ")
+    threshold = (f"{DEFAULT.enthalpy_mismatch_fraction * 100:g}\u00a0% or "
+                 f"{DEFAULT.enthalpy_mismatch_kJ_mol:g}\u00a0kJ/mol")
     assert f"kJ/mol (over ten times the measured value; threshold {threshold})" \
         in finding["text"]

@@ -90,7 +90,8 @@ def test_cold_combustion_ln_k_beyond_float_range_stays_finite(assessments):
 def test_hot_window_beyond_the_data_says_extrapolated(assessments):
     a = assessments["combustion-hot"]
     assert any(r.extrapolated for r in a.thermo.profile)
-    assert any("the window 3000.00-8000.00 K extends beyond it, so values there are "
+    # temperatures of a range to 0.1 K, an en dash, a no-break space before the unit
+    assert any("the window 3000.0–8000.0\u00a0K extends beyond it, so values there are "
                "extrapolated" in w for w in a.warnings)
 
 

@@ -172,7 +172,8 @@ def test_case_local_species_is_reported():
     local = [s for s in a.species if s.local]
     assert [s.name for s in local] == ["my salt"]
     f = next(f for f in a.findings if f.rule == "case-local-data")
-    assert "my salt(s) uses the case's own data (handbook value) with stated uncertainty hf ± 0.5 kJ/mol" in f.text
+    assert ("my salt(s) uses the case's own data (handbook value) with stated uncertainty "
+            "hf ± 0.5\u00a0kJ/mol") in f.text  # no-break space before the unit (number policy)
 
 
 def test_bad_basis_is_located():

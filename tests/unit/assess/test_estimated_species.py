@@ -67,10 +67,10 @@ def test_an_estimated_species_gets_its_record_uncertainty_and_finding():
     found = [f for f in a.findings if f.rule == "estimated-data"]
     assert len(found) == 1 and found[0].severity == "caution"
     assert "product(g) has no data in the library or the case" in found[0].text
-    assert "± 4.2 kJ/mol into ΔrH°" in found[0].text
+    assert "± 4.2\u00a0kJ/mol into ΔrH°" in found[0].text  # number policy: 0.1 kJ/mol
     # ΔrG° at 298.15 K: √(4.184² + (298.15 × 4.184 / 1000)²) = 4.366 kJ/mol; K factor
     # exp(4366.0 / (8.3145 × 298.15)) = exp(1.7612) = 5.82 (hand calculation)
-    assert "± 4.4 kJ/mol into ΔrG° at 298.15 K: K is uncertain by a factor of about 5.82" \
+    assert "± 4.4\u00a0kJ/mol into ΔrG° at 298.15\u00a0K: K is uncertain by a factor of about 5.82" \
         in found[0].text
     assert not [f for f in a.findings if f.rule == "case-local-data"]
 
@@ -93,7 +93,8 @@ def test_values_given_beside_an_estimate_are_used_and_compared():
     assert use.hf298_kJ_mol == pytest.approx(-216.4)       # the given value wins
     check = next(f for f in a.findings if f.rule == "estimated-data")
     assert check.severity == "information"
-    assert "ΔfH° -216.4 given, -215.0 ± 4.2 kJ/mol estimated" in check.text
+    # number policy: the estimate at the digits of its uncertainty (4.2 → one digit, ± 4)
+    assert "ΔfH° −216.4\u00a0kJ/mol given, −215 ± 4\u00a0kJ/mol estimated" in check.text
     assert check.text.endswith("They agree within 2 standard uncertainties.")
     wrong = given.replace("-216.4", "-316.4")
     check = next(f for f in evaluate(_case(wrong), LIB).assessment.findings

@@ -48,7 +48,9 @@ def test_mtsr_above_mtt_fires_without_td24():
     assert s.mtsr_K > s.mtt_K
     f = finding(a, "mtsr-above-mtt")
     assert f is not None and f.severity == "warning"
-    assert f"{s.mtsr_K - s.mtt_K:.1f} K above the MTT 373.1 K (100.0 °C)" in f.text
+    # number policy: 0.1 K, halves up from the written value, no-break spaces
+    assert (f"{s.mtsr_K - s.mtt_K:.1f}\u00a0K above the MTT 373.2\u00a0K (100.0\u00a0°C)"
+            in f.text)
     assert "TD24 is not known" in f.text
 
 
@@ -57,7 +59,7 @@ def test_mtsr_above_mtt_with_td24_names_it():
                               + '[vessel]\nmtt = "100 degC"\n[decomposition]\ntd24 = "300 degC"\n'))
     f = finding(a, "mtsr-above-mtt")
     assert a.safety.criticality_class == 3  # MTT <= MTSR < TD24 (Stoessel, class 3)
-    assert f is not None and "the MTSR stays below TD24 573.1 K (300.0 °C)" in f.text
+    assert f is not None and "the MTSR stays below TD24 573.2\u00a0K (300.0\u00a0°C)" in f.text
 
 
 def test_mtsr_below_mtt_does_not_fire():
@@ -81,8 +83,8 @@ def test_process_temperature_outside_the_window_fires():
     a = assess_text(case_text(RX, extra=CHARGE.format(tp="90 degC")))
     f = finding(a, "process-outside-window")
     assert f is not None and f.severity == "caution"
-    assert ("The process temperature 363.1 K (90.0 °C) lies outside the window 313.1 K "
-            "(40.0 °C) to 353.1 K (80.0 °C)") in f.text
+    assert ("The process temperature 363.2 K (90.0 °C) lies outside the window 313.2 K "
+            "(40.0 °C) to 353.2 K (80.0 °C)") in f.text.replace("\u00a0", " ")
 
 
 def test_process_temperature_inside_the_window_does_not_fire():
@@ -108,7 +110,8 @@ def test_gas_pressure_over_design_raises_the_severity_on_pressure():
     assert f"severity high on pressure, {s.severity} on ΔT_ad; the severity that counts is high" \
         in f.text
     # total = gas (ideal gas, as the gas finding) + the vapour bound, both printed
-    assert f"gas {s.pressure_at_mtsr_bar:.2f} bar with the evolved gas" in f.text
+    # number policy: three significant figures
+    assert f"gas {s.pressure_at_mtsr_bar:.3g}\u00a0bar with the evolved gas" in f.text
 
 
 def test_pressure_well_below_design_does_not_fire():

@@ -272,4 +272,4 @@ def test_an_ion_without_heat_capacity_is_warned_with_what_it_can_cost():
     (w,) = [w for w in ws if w.startswith("AsO4-3(aq): its source gives no heat capacity")]
     u = dict(LIB.resolve("AsO4-3", "aq").uncertainty)["cp"]
     # hand calculation: |ν| × u(cp) × (348.15 − 298.15 K)
-    assert f"up to {u * 50.0 / 1e3:.1f} kJ/mol at 348.15 K" in w
+    assert f"up to {u * 50.0 / 1e3:.1f}\u00a0kJ/mol at 348.2\u00a0K" in w  # 0.1 K (number policy)

@@ -107,7 +107,7 @@ def test_the_severity_bands_drive_the_severity_and_its_finding(demo):
     b = evaluate(case, LIB, settings=wide).assessment
     assert b.safety.severity == "low"
     text = next(f.text for f in b.findings if f.rule == "exotherm-severity")
-    assert "(below 400 K low, 400–800 K medium, above 800 K high)" in text
+    assert "(below 400\u00a0K low, 400–800\u00a0K medium, above 800\u00a0K high)" in text
 
 
 def test_the_default_text_of_the_bands_is_unchanged():

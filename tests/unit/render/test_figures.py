@@ -71,7 +71,7 @@ def test_gibbs_figure_marks_the_crossover_inside_the_window(calcination):
     row = [r for r in f.rows if "crossover" in r[3]]
     assert len(row) == 1 and abs(float(row[0][0]) - cross.T) < 0.01
     assert abs(float(row[0][2])) < 1e-3  # ΔG° there is zero, kJ/mol
-    assert f"{cross.T:.0f} K" in f.caption or f"{cross.T:.1f} K" in f.caption
+    assert f"{cross.T:.1f}\u00a0K" in f.caption  # kelvin_celsius, 0.1 K (number policy)
     # ΔG° in the table is the engine's own value at each temperature
     for r in f.rows:
         T = float(r[0])

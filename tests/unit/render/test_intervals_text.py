@@ -33,15 +33,19 @@ def test_class_text_names_every_possible_class_most_likely_first():
 
 
 def test_interval_text_is_empty_without_width():
-    assert interval_text((359.67, 365.84), "K") == f"95{NB}% interval 359.7 to 365.8{NB}K"
+    # half-width 3.1 K: one digit, so whole kelvin (number policy)
+    assert interval_text((359.67, 365.84), "K") == f"95{NB}% interval 360 to 366{NB}K"
+    assert interval_text((359.67, 360.84), "K") == f"95{NB}% interval 359.7 to 360.8{NB}K"
     assert interval_text((391.6, 391.6), "K") == ""
     assert interval_text(None, "K") == ""
-    assert interval_text((1.0, None), "h") == f"95{NB}% interval 1.0 to unbounded{NB}h"
+    # no width known: the end at the default three figures
+    assert interval_text((1.0, None), "h") == f"95{NB}% interval 1.00 to unbounded{NB}h"
 
 
 def test_stated_text_says_what_carried_an_uncertainty():
     s = safety(samples=4000, uncertain_inputs=("the accumulation (charge.accumulation)",))
-    assert stated_text(s) == ("Intervals are central 95 % intervals from 4,000 Monte Carlo "
+    # a four-digit count is not grouped (number policy)
+    assert stated_text(s) == (f"Intervals are central 95{NB}% intervals from 4000 Monte Carlo "
                               "draws of the stated uncertainties of: the accumulation "
                               "(charge.accumulation). Every other input is taken as exact.")
     assert stated_text(safety(samples=4000)).startswith("No input of this case states")

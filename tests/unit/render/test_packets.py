@@ -14,7 +14,7 @@ import pytest
 from dossier.render import packets
 from dossier.render import pages as site
 from dossier.render.maths import derivation_view
-from dossier.render.numbers import num
+from dossier.render.numbers import num, unit
 from dossier.assess.evaluate import CAUTIONS
 from dossier.build.assessing import assess_file
 from dossier.library.lookup import Library
@@ -136,9 +136,9 @@ def test_case_packet_contains_the_dossier_as_text(case_text, assessment):
     t = assessment.thermo
     for needle in ("kiln", "Lime kiln trial: calcination of limestone, hot zone",
                    "CaCO3(s) -> CaO(s) + CO2(g)",  # the reaction as written
-                   f"{num(t.dG298_kJ_mol, 3)} kJ/mol",  # ΔG° at 298.15 K
-                   f"{num(t.profile[0].dG_kJ_mol, 3)}",  # ΔG° at the window ends
-                   f"{num(t.profile[-1].dG_kJ_mol, 3)}",
+                   unit(t.dG298_kJ_mol, "kJ/mol"),  # ΔG° at 298.15 K (number policy)
+                   f"{num(t.profile[0].dG_kJ_mol, 1)}",  # ΔG° at the window ends
+                   f"{num(t.profile[-1].dG_kJ_mol, 1)}",
                    "favourable in part of the window",
                    "Carbon dioxide monitoring in the kiln hall before the first firing.",
                    "Derivation: kiln, revision 1", "Appendix: methods, thresholds and sources",
@@ -200,6 +200,22 @@ def test_meeting_packet_has_its_own_cover_and_agenda(built, case_text):
         stamp = _squash(f"Meeting packet 2026-11-24 · page {i} of {n}")
         assert _squash(pdf.pages[i - 1].extract_text()) == _squash(case_text[i - 2]) + stamp
     assert list(pdf.attachments) == ["kiln-assessment.json"]
+
+
+def test_parts_are_read_once_and_give_what_a_fresh_read_gives(built, case_text):
+    from dossier.render.assembly import Part, assemble, read_parts
+
+    data = (built.root / "packets" / "kiln.pdf").read_bytes()
+    (opened,) = read_parts([data], ["Case kiln"])
+    assert opened.reader is not None and opened.pdf_reader() is opened.reader
+    assert opened.page_count == Part(data, "Case kiln").page_count == len(case_text)
+    # the same packet whether its part came with its reader or is read afresh
+    fresh = pypdf.PdfReader(io.BytesIO(assemble(data, [Part(data, "Case kiln")])))
+    reused = pypdf.PdfReader(io.BytesIO(assemble(data, read_parts([data], ["Case kiln"]))))
+    assert len(fresh.pages) == len(reused.pages) == 2 * len(case_text)
+    assert [p.extract_text() for p in fresh.pages] == [p.extract_text() for p in reused.pages]
+    with pytest.raises(ValueError, match="1 PDFs but 2 titles"):
+        read_parts([data], ["a", "b"])
 
 
 def test_packet_site_links_resolve_and_name_the_packets(built):

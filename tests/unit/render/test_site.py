@@ -77,7 +77,8 @@ def test_ammonia_is_unfavourable_above_its_crossover(built):
     # textbook value, K = 1 at about 190 °C); the page must show the crossover
     # below the 673-773 K window and the window as unfavourable.
     text = _plain(_text(built.root / "cases" / "ammonia.html"))
-    m = re.search(r"(\d{3}\.\d) K \((\d{3}\.\d) °C\), favourable below, outside the window", text)
+    m = re.search(r"(\d{3}(?:\.\d)?)\sK \((\d{3}(?:\.\d)?)\s°C\), favourable below, outside "
+                  r"the window", text)
     assert m, text[:2000]
     assert 440.0 < float(m.group(1)) < 480.0
 
@@ -117,9 +118,10 @@ def test_case_page_shows_the_dossier(built):
     assert "C<sub>6</sub>H<sub>5</sub>NO<sub>2</sub>" in page
     assert '<span class="phase">(g)</span>' in page
     # numbers with units, from the assessment
-    assert f"{num(a.thermo.dG298_kJ_mol, 3)}\u00a0kJ/mol" in text
-    assert f"{temp(a.safety.mtsr_K)}" in text
-    assert num(a.safety.adiabatic_rise_K, 1) + "\u00a0K" in text
+    # (by the number policy: 0.1 kJ/mol; the MTSR and ΔT_ad at the digits of their intervals)
+    assert unit(a.thermo.dG298_kJ_mol, "kJ/mol") in text
+    assert temp(a.safety.mtsr_K, interval=a.safety.mtsr_interval_K) in text
+    assert unit(a.safety.adiabatic_rise_K, "K", a.safety.adiabatic_rise_interval_K) in text
     # methods named; the entropy reading in words
     for words in ("Townsend and Tou (1980)", "Stoessel", "Kirchhoff", "UN Manual of Tests",
                   "Entropy of the universe", "the reaction can run forward at standard state"):
@@ -303,8 +305,10 @@ def test_reaction_typesetting_uses_arrows_and_escapes_names():
 
 
 def test_numbers_carry_true_minus_signs_and_units():
-    assert num(-1234.5, 1) == "−1\u202f234.5"
-    assert temp(298.15) == "298.15\u00a0K (25.00\u00a0°C)"
+    # number policy: a four-digit number is not split (SI Brochure, 9th ed., 5.4.4)
+    assert num(-1234.5, 1) == "−1234.5"
+    assert num(-12345.5, 1) == "−12\u202f345.5"
+    assert temp(298.15) == "298.2\u00a0K (25.0\u00a0°C)"
     assert unit(None, "K") == "not assessed"
     assert num(-0.0001, 2) == "0.00"  # no negative zero
 
