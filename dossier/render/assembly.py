@@ -214,7 +214,7 @@ def assemble(cover: bytes, parts: Sequence[Part], sheet: bytes | None = None) ->
     m.finish()
     if sheet is not None:
         _stamp_pages(m.writer, sheet)
-    m.writer.compress_identical_objects(remove_duplicates=False, remove_unreferenced=True)
+    m.writer.compress_identical_objects(remove_duplicates=True, remove_unreferenced=True)
     out = io.BytesIO()
     m.writer.write(out)
     return out.getvalue()
