@@ -49,7 +49,7 @@ from dossier.render.maths import KIRCHHOFF, METHODS_MATH, kirchhoff_assets, math
 from dossier.render.intervals import (class_text, conversion_banded, interval_text,
                                       profile_banded, stated_text)
 from dossier.render.numbers import given, num, pct, sig, sign_words, temp, unit, words
-from dossier.render.phrases import (board_html, crossover_text, not_assessed_rows,
+from dossier.render.phrases import (board_html, crossover_text, in_words, not_assessed_rows,
                                     safety_rows)
 from dossier import number_policy
 from dossier.render.views import (FAVOURABLE_WORDS, CaseView, FailedCase, MeetingView,
@@ -75,7 +75,7 @@ def environment():
                              lstrip_blocks=True, keep_trailing_newline=True)
     env.filters.update(num=num, sig=sig, unit=unit, temp=temp, pct=pct, words=words,
                        reaction=reaction_html, key=key_html, formula=formula_html,
-                       math=mathml, within=interval_text, board=_board, given=given,
+                       math=mathml, within=interval_text, board=_board, in_words=in_words, given=given,
                        signed=number_policy.signed, plain=number_policy.plain)
     env.globals.update(
         SEVERITIES=SEVERITIES, FAVOURABLE_WORDS=FAVOURABLE_WORDS, verdict_summary=verdict_summary,
