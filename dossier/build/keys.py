@@ -122,6 +122,14 @@ def view_key(assess_key: str, case_slug: str, species_slugs: Sequence[str],
     return key("view", assess_key, case_slug, *species_slugs, settings.code)
 
 
+def drawings_key(code: str, slug: str, assessment: dict, thermo: bytes) -> str:
+    """The key of a case's figures and derivation: what they are drawn from (the
+    assessment as its JSON says it, the reaction's properties pickled, the page
+    address) and the code that draws them; not the narrative or the reviews."""
+    return key("drawings", code, slug,
+               json.dumps(assessment, sort_keys=True, ensure_ascii=False), thermo)
+
+
 def case_unit_key(view_key: str, settings: BuildSettings) -> str:
     return key("case", view_key, *settings.parts())
 
@@ -159,4 +167,4 @@ def build_key(settings: BuildSettings, strict: bool, paths: Sequence[Path],
 
 __all__ = ["MANIFEST_FORMAT", "BuildSettings", "build_key", "build_settings", "case_key",
            "case_unit_key", "has_package", "meeting_unit_key", "register_key",
-           "species_unit_key", "tree_digest", "unreadable_key", "view_key"]
+           "species_unit_key", "tree_digest", "unreadable_key", "view_key", "drawings_key"]

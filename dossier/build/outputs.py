@@ -59,15 +59,35 @@ def view_json(v: CaseView) -> bytes:
     return (json.dumps(data, indent=2, ensure_ascii=False) + "\n").encode("utf-8")
 
 
-def case_view(a: AssessedCase, slug: str, species_slugs: Sequence[str]) -> CaseView:
-    """The plain data a dossier page is rendered from (figures drawn here)."""
+@dataclass(frozen=True)
+class Drawings:
+    """What a case's page draws from its numbers alone: the figures and the derivation.
+    They depend on the assessment and the reaction's properties, never on the
+    narrative, the reviews or the templates, so they are cached on those
+    (:func:`dossier.build.keys.drawings_key`): a narrative edit redraws nothing."""
+
+    figures: tuple
+    derivation: DerivationView | None
+    derivation_note: str
+
+
+def drawings(a: AssessedCase, slug: str) -> Drawings:
     view, note = derivation(a, slug)
+    return Drawings(tuple(case_figures(a.thermo, a.assessment)), view, note)
+
+
+def case_view(a: AssessedCase, slug: str, species_slugs: Sequence[str],
+              drawn: Drawings | None = None) -> CaseView:
+    """The plain data a dossier page is rendered from (figures drawn here unless
+    ``drawn`` brings them)."""
+    drawn = drawn if drawn is not None else drawings(a, slug)
+    view, note = drawn.derivation, drawn.derivation_note
     c = a.case
     return CaseView(
         slug=slug, source_name=a.path.name, assessment=a.assessment, reviews=c.reviews,
         narrative=c.narrative, inerts=c.inerts, charge=c.charge, vessel=c.vessel,
         decomposition=c.decomposition, measured=c.measured,
-        species_slugs=tuple(species_slugs), figures=case_figures(a.thermo, a.assessment),
+        species_slugs=tuple(species_slugs), figures=drawn.figures,
         derivation=view, derivation_note=note, integrity=a.integrity,
         integrity_note=a.integrity_note or NOT_COMPUTED, decisions=a.decisions)
 
@@ -108,13 +128,14 @@ class CaseOutput:
 
 
 def case_output(a: AssessedCase, slug: str, species_slugs: Sequence[str], packets: bool,
-                base: Mapping[str, bytes], view: CaseView | None = None) -> CaseOutput:
+                base: Mapping[str, bytes], view: CaseView | None = None,
+                drawn: Drawings | None = None) -> CaseOutput:
     """Figures, formula images, data export and (optionally) the packet of one case.
 
     ``view`` is the case's view when it is at hand already (from the cache).
     Raises on a defect; the callers turn that into a :class:`CaseFailure`.
     """
-    v = view if view is not None else case_view(a, slug, species_slugs)
+    v = view if view is not None else case_view(a, slug, species_slugs, drawn)
     own: dict[str, bytes] = {}
     problems: list[str] = []
     for f in v.figures:

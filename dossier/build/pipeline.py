@@ -341,7 +341,8 @@ def render_cases(b: Build, units: Sequence[CaseUnit]
     todo = [i for i, r in enumerate(results) if r is None]
     calls: list[Call] = [
         (unit_case, (units[i].assessed.pickled, units[i].slug, units[i].species_slugs,
-                     b.packets, units[i].key, units[i].view_key, b.root))
+                     b.packets, units[i].key, units[i].view_key, b.root,
+                     b.settings.code))
         for i in todo]
     fresh = b.runner.run("cases", calls)
     for i, r in zip(todo, fresh):

@@ -15,8 +15,9 @@ from typing import Mapping, Sequence
 from dossier.build.assessing import AssessedCase, CaseFailure, assess_inputs
 from dossier.build.cache import Cache
 from dossier.build.layout import UsedBy
-from dossier.build.outputs import (base_files, case_output, case_pages, light_view,
-                                   meeting_pdf, render_failure, species_files)
+from dossier.build.keys import drawings_key
+from dossier.build.outputs import (Drawings, base_files, case_output, case_pages, drawings,
+                                   light_view, meeting_pdf, render_failure, species_files)
 from dossier.build.pickles import dumps, loads
 from dossier.library.lookup import Library
 from dossier.library.record import SpeciesRecord
@@ -91,14 +92,35 @@ def unit_assess(inputs: CaseInputs, unit_key: str, cache_root: str) -> bytes:
     return data
 
 
+def cached_drawings(cache: Cache, a: AssessedCase, slug: str, code: str) -> Drawings:
+    """The case's figures and derivation: from the cache when the numbers they are
+    drawn from are unchanged (a narrative edit), else drawn and cached."""
+    k = drawings_key(code, slug, a.assessment.to_dict(), dumps(a.thermo))
+    data = cache.get("drawings", k)
+    if data is not None:
+        try:
+            got = loads(data)
+            if isinstance(got, Drawings):
+                return got
+        except Exception:  # written by another version of the classes: draw again
+            pass
+    drawn = drawings(a, slug)
+    cache.put("drawings", k, dumps(drawn))
+    return drawn
+
+
 def unit_case(a: AssessedCase | bytes, slug: str, species_slugs: list[str], packets: bool,
-              unit_key: str, view_key: str, cache_root: str) -> UnitResult:
+              unit_key: str, view_key: str, cache_root: str, code: str = "") -> UnitResult:
     """A case's figures, pages and packet.  Its view (figures and derivation, which do
-    not depend on the templates) is cached on its own under ``view_key``."""
+    not depend on the templates) is cached on its own under ``view_key``; the drawings
+    themselves also on the numbers alone (:func:`cached_drawings`, given ``code``)."""
     a = loads(a) if isinstance(a, bytes) else a
     try:
         view = cached_view(cache_root, view_key)
-        out = case_output(a, slug, species_slugs, packets, base_files_once(packets), view)
+        drawn = (cached_drawings(Cache(Path(cache_root)), a, slug, code)
+                 if view is None and code else None)
+        out = case_output(a, slug, species_slugs, packets, base_files_once(packets), view,
+                          drawn)
         if view is None:
             Cache(Path(cache_root)).put("view", view_key, dumps(out.view))
         files = {**out.files, **case_pages(out.view, packets)}

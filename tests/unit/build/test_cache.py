@@ -136,6 +136,36 @@ def test_changing_one_case_redoes_that_case_only(project):
     assert report.reused > 0
 
 
+def _drawn(project: Path) -> set[str]:
+    """The names of the cached drawings (figures and derivation) of every case."""
+    return {p.name for p in (project / ".dossier-cache" / "entries" / "drawings").rglob("*")
+            if p.is_file()}
+
+
+def test_a_narrative_edit_redraws_no_figure_and_a_changed_number_does(project):
+    cases, out = project / "cases", project / "site"
+    build.build_site(cases, out, packets=False)
+    drawn, before = _drawn(project), _files(out)
+    assert len(drawn) == 3  # one per case
+    with open(cases / "calcination.md", "a", encoding="utf-8") as fh:
+        fh.write("\nOne more sentence for the narrative.\n")
+    report = build.build_site(cases, out, packets=False)
+    assert report.made["view"] == 1  # the page's view is made again ...
+    assert _drawn(project) == drawn  # ... from the drawings already made
+    after = _files(out)
+    figures = [k for k in before if k.startswith("figures/cases/calcination/")]
+    assert figures and all(after[k] == before[k] for k in figures)
+    assert after["cases/calcination.html"] != before["cases/calcination.html"]
+    # a number the figures are drawn from: drawn again, under a new key
+    text = (cases / "calcination.md").read_text(encoding="utf-8")
+    (cases / "calcination.md").write_text(text.replace('"900 degC"', '"950 degC"'),
+                                          encoding="utf-8")
+    build.build_site(cases, out, packets=False)
+    assert len(_drawn(project) - drawn) == 1
+    assert _files(out)["figures/cases/calcination/gibbs.svg"] != after[
+        "figures/cases/calcination/gibbs.svg"]
+
+
 def test_a_template_change_re_renders_pages_but_not_assessments_or_figures(project, monkeypatch):
     cases, out = project / "cases", project / "site"
     build.build_site(cases, out, packets=False)
