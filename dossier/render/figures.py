@@ -368,7 +368,10 @@ def ladder_figure(safety: "Safety") -> Figure | None:
             if placed and y - placed[-1] < min_gap:
                 y = placed[-1] + min_gap
             placed.append(y)
-            ax.annotate(f"{LADDER_TEX.get(label, label)}  {kelvin_celsius(t, 1)}", (5.6, t),
+            # digits as the page prints them: from the 95 % interval where there is one
+            known = {"MTSR": safety.mtsr_interval_K, "TD24": safety.td24_interval_K}.get(label)
+            shown = kelvin_celsius(t, interval=known) if known else kelvin_celsius(t, 1)
+            ax.annotate(f"{LADDER_TEX.get(label, label)}  {shown}", (5.6, t),
                         xytext=(6.0, y), textcoords="data", va="center", color=INK,
                         arrowprops=dict(arrowstyle="-", color=GREY, linewidth=0.6))
         if "T_p" in values and "MTSR" in values:
