@@ -40,7 +40,7 @@ LAYERS = ("base", "chem", "model", "casefile", "library", "engine", "assess", "r
 # Libraries that make pages, pictures, PDFs or terminals: only render/ and above.
 PRESENTATION_LIBRARIES = frozenset({
     "jinja2", "markdown", "nh3", "matplotlib", "weasyprint", "click", "tqdm", "watchfiles",
-    "markupsafe", "latex2mathml", "pypdf"})
+    "markupsafe", "latex2mathml", "pikepdf", "pypdf"})
 
 # Third-party packages that may be imported inside a function, because importing
 # them is slow (cost measured with `python -X importtime`, cumulative) or may fail,
@@ -51,7 +51,9 @@ HEAVY_PACKAGES = {
     "sympy": "about 330 ms; only for formulas shown as mathematics",
     "matplotlib": "200-450 ms; only for figures",
     "weasyprint": "about 550 ms and native libraries; only for PDF packets",
-    "pypdf": "about 200 ms; only to put meeting packets together from the case packets",
+    "pikepdf": "about 50 ms (qpdf's native library); only to put meeting packets together "
+               "from the case packets",
+    "pypdf": "about 100-120 ms; only the tests read PDFs with it",
     "cryptography": "about 25-35 ms (exceptions, serialization, ed25519; cumulative); only to "
                     "make keys, sign and verify, which `dossier evaluate` and `check` never do",
     "scipy": "scipy.optimize about 420 ms; only for the solvers",
