@@ -16,10 +16,10 @@
    then what the cases share: species pages, meeting packets
    (:func:`render_shared`), the register, methods page and guide
    (:func:`render_register`).  Every unit keeps its files in the cache.
-   A case that failed keeps its page (:func:`keep_failed`): what failed and
+   A case that failed keeps its page (:func:`dossier.build.kept.keep_failed`): what failed and
    where, and its last good assessment from the site being replaced, marked
    as not current, with that build's packets; a build without packets keeps
-   the packets it finds (:func:`keep_packets`) and says so.
+   the packets it finds (:func:`dossier.build.kept.keep_packets`) and says so.
 6. **publish** (:func:`publish`): :func:`dossier.build.writer.write_site`
    writes the whole site at once (temporary folder, then a swap).
 
@@ -35,7 +35,6 @@ only what changed; :class:`BuildReport` counts the units made and reused.
 """
 from __future__ import annotations
 
-import dataclasses
 import json
 import time
 from dataclasses import dataclass, field
@@ -48,18 +47,15 @@ from dossier.build.keys import (MANIFEST_FORMAT, BuildSettings, build_key, build
                                 case_key, case_unit_key, meeting_unit_key, register_key,
                                 species_unit_key, unreadable_key, view_key)
 from dossier.build.layout import SiteLayout, site_layout
-from dossier.build.outputs import (base_files, failed_rows, light_view, meeting_views,
-                                   site_pages)
+from dossier.build.kept import SiteFiles, keep_failed, keep_packets
+from dossier.build.outputs import base_files, light_view, meeting_views, site_pages
 from dossier.build.pickles import loads
 from dossier.build.runner import Call, Progress, Runner
 from dossier.build.units import (UnitResult, cached_unit, store, unit_assess, unit_case,
                                  unit_meeting, unit_species)
-from dossier.build.writer import (SiteLock, check_target, is_within, previous_file,
-                                  previous_files, read_manifest, read_previous, remove_stale,
-                                  write_site)
+from dossier.build.writer import (SiteLock, check_target, is_within, read_manifest,
+                                  remove_stale, write_site)
 from dossier.errors import CaseError, DossierError, Problem
-from dossier.render.pages import render_failed_case_page
-from dossier.render.slugs import case_slugs, slugify
 from dossier.render.views import CaseView, FailedCase, MeetingView
 from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.review.inputs import CaseInputs, FileRead, policy_settings, read_case_inputs, read_policy
@@ -184,21 +180,6 @@ class CaseUnit:
     species_slugs: list[str]
     view_key: str
     key: str
-
-
-@dataclass
-class SiteFiles:
-    """What the units made for the site: site path -> blob, notes, packets."""
-
-    linked: dict[str, str] = field(default_factory=dict)
-    problems: list[str] = field(default_factory=list)
-    packets: list[str] = field(default_factory=list)
-    pages: dict[str, bytes] = field(default_factory=dict)  # made here: failed cases' pages
-    kept: dict[str, Path] = field(default_factory=dict)  # kept from the site it replaces
-
-    def add(self, unit: UnitResult) -> None:
-        self.linked.update(unit.files)
-        self.problems.extend(unit.problems)
 
 
 # --------------------------------------------------------------------------
@@ -426,81 +407,6 @@ def render_register(b: Build, views: Sequence[CaseView], meetings: Sequence[Meet
                                          **base_files(b.packets)})
 
 
-def earlier_export(data: bytes | None, file_name: str) -> dict | None:
-    """A previous site's data export of the case file ``file_name``, or None."""
-    try:
-        e = json.loads(data) if data else None
-    except ValueError:
-        return None
-    return e if isinstance(e, dict) and e.get("source_file") == file_name else None
-
-
-def keep_failed(b: Build, layout: SiteLayout, failed: Sequence[CaseFailure],
-                meetings: Sequence[MeetingView], site: SiteFiles) -> list[FailedCase]:
-    """Each failed case keeps its page (``cases/<slug>.html``, no 404): what failed and
-    where, and the last good assessment from the site this build replaces, marked not
-    current (its data export is kept as ``cases/<slug>.last-good.json``), with that
-    build's packet and meeting packet when this build makes none in their place."""
-    taken = {p for s in layout.case_slug.values() for p in (s, f"{s}-derivation")}
-    made = {m.slug for m in meetings} if b.packets else set()  # meeting packets made
-    rows = []
-    for f, row in zip(failed, failed_rows(failed)):
-        stem = Path(f.file).name.removesuffix(".md")
-        slug = case_slugs([stem])[stem]
-        if slug in taken or f"{slug}-derivation" in taken:  # a good case holds its page
-            rows.append(row)
-            continue
-        taken.update((slug, f"{slug}-derivation"))
-        e, data = None, None
-        for rel in (f"cases/{slug}.json", f"cases/{slug}.last-good.json"):
-            data = read_previous(b.target, rel)
-            e = earlier_export(data, row.file)
-            if e is not None:
-                break
-        kept = []
-        if e is not None:
-            site.pages[f"cases/{slug}.last-good.json"] = data
-            meeting = f"meeting-{slugify(str(e['meeting']))}" if e.get("meeting") else ""
-            if meeting in made:
-                site.problems.append(f"packets/{meeting}.pdf was made without case {stem}, "
-                                     "which failed to assess")
-            for rel in (f"packets/{slug}.pdf", f"packets/{meeting}.pdf" if meeting else ""):
-                old = previous_file(b.target, rel) if rel and rel not in site.linked else None
-                if old is not None:
-                    site.kept[rel] = old
-                    kept.append(rel)
-        if kept:
-            site.problems.append(f"case {stem} failed: kept {', '.join(kept)} from an "
-                                 "earlier build (not current)")
-        row = dataclasses.replace(row, slug=slug, earlier=e, kept=tuple(kept))
-        site.pages[f"cases/{slug}.html"] = render_failed_case_page(row).encode("utf-8")
-        rows.append(row)
-    return rows
-
-
-#: Beside packets kept by a build without packets.
-KEPT_PACKETS_NOTE = ("The PDF packets in this folder were printed by an earlier build and kept "
-                     "because the last build ran without packets (--no-packets). Each shows "
-                     "the revision and date it was printed for on its cover; they may not match "
-                     "the pages of this site. Build with packets to print them again.\n")
-
-
-def keep_packets(b: Build, site: SiteFiles) -> None:
-    """A build without packets keeps the packets of the site it replaces, says so
-    (a note, and ``packets/KEPT-FROM-AN-EARLIER-BUILD.txt``) and never deletes them."""
-    if b.packets:  # a build with packets prints its own (a failed case's are kept above)
-        return
-    old = [rel for rel in previous_files(b.target, "packets", ".pdf")
-           if rel not in site.kept and rel not in site.linked]
-    for rel in old:
-        site.kept[rel] = previous_file(b.target, rel)
-    if site.kept:
-        site.pages["packets/KEPT-FROM-AN-EARLIER-BUILD.txt"] = KEPT_PACKETS_NOTE.encode("utf-8")
-        site.problems.append(f"built without packets: kept {len(site.kept)} PDF packets of an "
-                             "earlier build in packets/ (not current; build with packets to "
-                             "print them again)")
-
-
 # --------------------------------------------------------------------------
 # Phase 6: publish
 
@@ -587,8 +493,8 @@ def locked_build(b: Build, lock: SiteLock) -> BuildReport:
         for _u, r in ok:
             site.add(r)
         views, meetings = render_shared(b, layout, [u for u, _r in ok], site)
-        rows = keep_failed(b, layout, failed, meetings, site)
-        keep_packets(b, site)
+        rows = keep_failed(b.target, b.packets, layout, failed, meetings, site)
+        keep_packets(b.target, b.packets, site)
         site.add(render_register(b, views, meetings, [u for u, _r in ok], rows))
     finally:
         b.runner.close()
