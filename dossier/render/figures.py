@@ -4,117 +4,28 @@ Pure functions: numbers in, :class:`Figure` out (the SVG text, a caption, a
 text alternative and the figure's data as a table of formatted strings, which
 the page prints beside the figure).  Nothing is written here.
 
-Rebuilds are byte-stable: the SVG hash salt is fixed, the date and other
-volatile metadata are left out, and text is drawn as paths (so the figure
-looks the same wherever it is opened or printed).  matplotlib is imported
-only inside this module, and only when a figure is drawn.
+The shared look, the SVG output and :class:`Figure` are in
+:mod:`dossier.render.figure_style` (rebuilds are byte-stable there).
+matplotlib is imported only inside functions, and only when a figure is drawn.
 """
 from __future__ import annotations
 
 import functools
 import io
 import math
-from dataclasses import dataclass
 from typing import TYPE_CHECKING, Sequence
 
 import numpy as np
 
 from dossier.constants import T_REF, ZERO_CELSIUS
-from dossier.render.alt_text import labelled_svg
+from dossier.render.figure_style import (BLUE, GREY, INK, PALE, SVG_METADATA, Figure, cell,
+                                         celsius_axis, new_figure, svg_text, with_style)
 from dossier.temperature import kelvin_celsius
 
 if TYPE_CHECKING:  # pragma: no cover
     from dossier.engine.thermo import ReactionThermo
     from dossier.library.record import SpeciesRecord
     from dossier.model.assessment import Crossover, Envelope, ProfileRow, Safety
-
-# Our own calm, print-first palette: ink, one muted blue, greys.
-INK = "#1f2a33"
-BLUE = "#2f5d7c"
-GREY = "#6b7780"
-PALE = "#e6ecf0"
-
-STYLE = {
-    "svg.hashsalt": "dossier-figures-1",
-    "svg.fonttype": "none",
-    "font.family": "DejaVu Sans",
-    "font.size": 9.0,
-    "axes.edgecolor": GREY,
-    "axes.labelcolor": INK,
-    "axes.linewidth": 0.8,
-    "axes.spines.top": False,
-    "axes.spines.right": False,
-    "axes.grid": True,
-    "grid.color": "#d5dbe0",
-    "grid.linewidth": 0.5,
-    "xtick.color": GREY,
-    "ytick.color": GREY,
-    "xtick.labelcolor": INK,
-    "ytick.labelcolor": INK,
-    "legend.frameon": False,
-    "legend.fontsize": 8.0,
-    "lines.linewidth": 1.6,
-    "path.simplify": False,
-}
-
-#: SVG metadata: no date, no tool version, so identical input gives identical bytes.
-SVG_METADATA = {"Date": None, "Creator": None, "Format": None, "Type": None}
-
-
-@dataclass(frozen=True)
-class Figure:
-    """One drawn figure with its words and its data."""
-
-    name: str  # file stem, e.g. "gibbs"
-    title: str
-    caption: str
-    alt: str  # short text alternative for the image
-    columns: tuple[str, ...]
-    rows: tuple[tuple[str, ...], ...]
-    svg: str
-
-    def __post_init__(self) -> None:
-        # the SVG file names itself too, for a reader who opens it alone
-        object.__setattr__(self, "svg", labelled_svg(self.svg, self.title, self.alt))
-
-
-
-def _new_figure(width: float = 6.4, height: float = 3.4, top_axis: bool = True):
-    """A figure with fixed margins (faster and steadier than automatic layout)."""
-    from matplotlib.figure import Figure as MplFigure
-
-    fig = MplFigure(figsize=(width, height))
-    fig.subplots_adjust(left=0.72 / width, right=1 - 0.18 / width, bottom=0.5 / height,
-                        top=1 - (0.55 if top_axis else 0.3) / height)
-    return fig
-
-
-def _svg(fig) -> str:
-    buf = io.StringIO()
-    fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=False,
-                facecolor="white")
-    return buf.getvalue()
-
-
-def _draw(fn):
-    """Run a drawing function under the fixed style, with matplotlib on Agg."""
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
-    with matplotlib.rc_context(STYLE):
-        return fn()
-
-
-def _celsius_axis(ax) -> None:
-    sec = ax.secondary_xaxis("top", functions=(lambda t: t - ZERO_CELSIUS,
-                                               lambda c: c + ZERO_CELSIUS))
-    sec.set_xlabel("t / °C", color=GREY)
-    sec.tick_params(colors=GREY)
-
-
-def _f(x: float, digits: int = 2) -> str:
-    return "–" if x is None or not math.isfinite(x) else f"{x:.{digits}f}"
-
 
 # --------------------------------------------------------------------------
 # ΔG°(T)
@@ -159,7 +70,7 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
     shown = [c for c in crossovers if a <= c.T <= b]
 
     def draw():
-        fig = _new_figure()
+        fig = new_figure()
         ax = fig.add_subplot()
         ax.axvspan(window[0], window[1], color=PALE, zorder=0, label="operating window")
         ax.axhline(0.0, color=GREY, linewidth=0.9, zorder=1)
@@ -182,11 +93,11 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
         ax.set_xlim(a, b)
         ax.set_xlabel("T / K")
         ax.set_ylabel(r"$\Delta_\mathrm{r}G^\circ$ / kJ mol$^{-1}$")
-        _celsius_axis(ax)
+        celsius_axis(ax)
         ax.legend(loc="best")
-        return _svg(fig)
+        return svg_text(fig)
 
-    svg = _draw(draw)
+    svg = with_style(draw)
     # data table: round temperatures across the range, the window ends, crossovers
     step = _nice_step((b - a) / 10.0)
     pts = sorted({*np.arange(math.ceil(a / step) * step, b + 1e-9, step).tolist(),
@@ -201,7 +112,7 @@ def gibbs_figure(thermo: "ReactionThermo", window: tuple[float, float],
             note.append("extrapolated")
         if any(abs(t - c.T) < 1e-9 for c in shown):
             note.append("crossover")
-        rows.append((f"{t:.2f}", f"{t - ZERO_CELSIUS:.2f}", _f(g, 3), ", ".join(note)))
+        rows.append((f"{t:.2f}", f"{t - ZERO_CELSIUS:.2f}", cell(g, 3), ", ".join(note)))
     if shown:
         cross = "; ".join(f"ΔG° = 0 at {kelvin_celsius(c.T, 1)}, {c.direction}"
                           for c in shown)
@@ -238,7 +149,7 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
     X = np.array([r.conversion for r in profile]) * 100.0
 
     def draw():
-        fig = _new_figure(6.4, 3.0)
+        fig = new_figure(6.4, 3.0)
         ax = fig.add_subplot()
         style = "steps-mid" if mode == "all-or-nothing" else "default"
         band = _band(profile, "conversion_low", "conversion_high", 100.0)
@@ -252,10 +163,10 @@ def conversion_figure(profile: Sequence["ProfileRow"], pressure_bar: float, basi
         ax.set_xlim(T.min(), T.max()) if T.max() > T.min() else None
         ax.set_xlabel("T / K")
         ax.set_ylabel("equilibrium conversion / %")
-        _celsius_axis(ax)
-        return _svg(fig)
+        celsius_axis(ax)
+        return svg_text(fig)
 
-    svg = _draw(draw)
+    svg = with_style(draw)
     banded = _band(profile, "conversion_low", "conversion_high") is not None
     rows = tuple((f"{r.T_K:.2f}", f"{r.T_K - ZERO_CELSIUS:.2f}", f"{r.conversion * 100:.2f}")
                  + ((f"{r.conversion_low * 100:.2f} to {r.conversion_high * 100:.2f}",)
@@ -286,7 +197,7 @@ def entropy_figure(profile: Sequence["ProfileRow"]) -> Figure:
     univ = np.array([r.dS_univ_J_molK for r in profile])
 
     def draw():
-        fig = _new_figure(6.4, 3.2)
+        fig = new_figure(6.4, 3.2)
         ax = fig.add_subplot()
         ax.axhline(0.0, color=GREY, linewidth=0.9)
         ax.plot(T, sys_, color=INK, linestyle=(0, (1.5, 2)), label=r"$\Delta_\mathrm{r}S^\circ$ (system)")
@@ -296,12 +207,12 @@ def entropy_figure(profile: Sequence["ProfileRow"]) -> Figure:
             ax.set_xlim(T.min(), T.max())
         ax.set_xlabel("T / K")
         ax.set_ylabel(r"entropy change / J mol$^{-1}$ K$^{-1}$")
-        _celsius_axis(ax)
+        celsius_axis(ax)
         ax.legend(loc="best")
-        return _svg(fig)
+        return svg_text(fig)
 
-    svg = _draw(draw)
-    rows = tuple((f"{r.T_K:.2f}", _f(r.dS_J_molK), _f(r.dS_surr_J_molK), _f(r.dS_univ_J_molK))
+    svg = with_style(draw)
+    rows = tuple((f"{r.T_K:.2f}", cell(r.dS_J_molK), cell(r.dS_surr_J_molK), cell(r.dS_univ_J_molK))
                  for r in profile)
     sign = ("positive throughout" if np.all(univ > 0) else
             "negative throughout" if np.all(univ < 0) else "changing sign")
@@ -349,7 +260,7 @@ def ladder_figure(safety: "Safety") -> Figure | None:
     values = dict((k, v) for k, v, _ in levels)
 
     def draw():
-        fig = _new_figure(6.4, 3.8, top_axis=False)
+        fig = new_figure(6.4, 3.8, top_axis=False)
         ax = fig.add_subplot()
         ax.grid(False)
         ax.spines["bottom"].set_visible(False)
@@ -388,9 +299,9 @@ def ladder_figure(safety: "Safety") -> Figure | None:
         ax.set_ylabel("T / K")
         if cls is not None:
             ax.set_title(f"criticality class {cls}", loc="left", color=INK, fontsize=9)
-        return _svg(fig)
+        return svg_text(fig)
 
-    svg = _draw(draw)
+    svg = with_style(draw)
     rows = tuple((LADDER_TEXT.get(label, label), f"{t:.2f}", f"{t - ZERO_CELSIUS:.2f}", meaning)
                  for label, t, meaning in levels)
     order = " < ".join(LADDER_TEXT.get(label, label) for label, _, _ in levels)
@@ -451,7 +362,7 @@ def _species_figure(held: _Record) -> Figure:
               (r"$S^\circ$ / J mol$^{-1}$ K$^{-1}$", s), (r"$G^\circ = H^\circ - TS^\circ$ / kJ mol$^{-1}$", g))
 
     def draw():
-        fig = _new_figure(6.4, 4.6, top_axis=False)
+        fig = new_figure(6.4, 4.6, top_axis=False)
         fig.subplots_adjust(left=0.1, right=0.98, wspace=0.32, hspace=0.12, top=0.97)
         axes = fig.subplots(2, 2, sharex=True)
         for ax, (label, y) in zip(axes.flat, panels):
@@ -461,9 +372,9 @@ def _species_figure(held: _Record) -> Figure:
             ax.set_ylabel(label, fontsize=8)
         for ax in axes[1]:
             ax.set_xlabel("T / K")
-        return _svg(fig)
+        return svg_text(fig)
 
-    svg = _draw(draw)
+    svg = with_style(draw)
     step = _nice_step((hi - lo) / 8.0)
     pts = sorted({lo, hi, *([T_REF] if lo <= T_REF <= hi else []),
                   *np.arange(math.ceil(lo / step) * step, hi, step).tolist()})
@@ -472,7 +383,7 @@ def _species_figure(held: _Record) -> Figure:
         ta = np.array([t])
         hv = float(m.h(ta)[0]) / 1e3
         sv = float(m.s(ta)[0])
-        rows.append((f"{t:.2f}", _f(float(m.cp(ta)[0])), _f(hv, 3), _f(sv), _f(hv - t * sv / 1e3, 3)))
+        rows.append((f"{t:.2f}", cell(float(m.cp(ta)[0])), cell(hv, 3), cell(sv), cell(hv - t * sv / 1e3, 3)))
     caption = (f"Heat capacity, enthalpy (formation scale), entropy and Gibbs energy of "
                f"{record.name} ({record.phase}) from {lo:.0f} to {hi:.0f} K by its "
                f"{m.kind} model; the dotted line marks 298.15 K.")
@@ -509,7 +420,7 @@ def formula_svg(latex: str, fontsize: float = 10.0) -> str:
         fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=True)
         return buf.getvalue()
 
-    return _draw(draw)
+    return with_style(draw)
 
 
 #: Shades of the criticality classes 1..5 in the envelope, pale to dark (each class is
@@ -524,7 +435,7 @@ def envelope_figure(env: "Envelope", safety: "Safety") -> Figure:
     K = np.array(env.classes)
 
     def draw():
-        fig = _new_figure(6.4, 3.8)
+        fig = new_figure(6.4, 3.8)
         ax = fig.add_subplot()
         curves = {name: np.array(x) * 100.0 for name, x in env.boundaries}
         mtt, td = curves["MTSR = MTT"], curves["MTSR = TD24"]
@@ -556,10 +467,10 @@ def envelope_figure(env: "Envelope", safety: "Safety") -> Figure:
                         color=INK, fontsize=8, zorder=3)
         ax.set_xlabel("process temperature T / K")
         ax.set_ylabel("accumulation / %")
-        _celsius_axis(ax)
-        return _svg(fig)
+        celsius_axis(ax)
+        return svg_text(fig)
 
-    svg = _draw(draw)
+    svg = with_style(draw)
     rows = tuple((label, f"{tp:.2f}", f"{tp - ZERO_CELSIUS:.2f}", f"{acc * 100:.1f}",
                   str(int(K[np.abs(X - acc * 100).argmin(), np.abs(T - tp).argmin()])))
                  for label, tp, acc in env.points)
