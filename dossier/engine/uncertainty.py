@@ -58,7 +58,12 @@ def interval(samples: np.ndarray, coverage: float = 0.95
     if s.size == 0 or s.size * 2 < np.asarray(samples).size:
         return None
     tail = (1.0 - coverage) / 2.0 * 100.0
-    lo, hi = np.percentile(s, [tail, 100.0 - tail])
+    with np.errstate(invalid="ignore"):  # between two infinite draws: inf - inf
+        lo, hi = np.percentile(s, [tail, 100.0 - tail])
+    if math.isnan(lo) or math.isnan(hi):  # an end among infinite draws is infinite
+        near_lo, near_hi = np.percentile(s, [tail, 100.0 - tail], method="nearest")
+        lo = near_lo if math.isnan(lo) else lo
+        hi = near_hi if math.isnan(hi) else hi
     return (float(lo) if math.isfinite(lo) else None, float(hi) if math.isfinite(hi) else None)
 
 
