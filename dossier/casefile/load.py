@@ -38,8 +38,8 @@ from dossier.casefile.locate import locate_keys
 from dossier.casefile.schema import DELIMITER
 from dossier.casefile.validate import INVALID, STATED_UNCERTAINTY, check_header, validate_header
 from dossier.casefile.variants import variant_headers
-from dossier.chem.formula import parse_formula
-from dossier.errors import CaseError, FormulaError, Problem
+from dossier.chem.formula import is_formula
+from dossier.errors import CaseError, Problem
 from dossier.constants import P_STANDARD, T_REF
 from dossier.model.case import (ActivityModel, Case, Charge, Decomposition, LocalSpecies,
                                 Variant,
@@ -468,7 +468,7 @@ def check_source(source: CaseSource) -> CaseCheck:
     for sp in top.get("species") or []:
         if isinstance(sp, dict) and all(isinstance(sp.get(k), str)
                                         for k in ("name", "formula", "phase")) \
-                and _is_formula(sp["formula"]):
+                and is_formula(sp["formula"]):
             species.append(_checked_species(sp))
         elif isinstance(sp, dict) and isinstance(sp.get("name"), str):
             unreadable.append(sp["name"])
@@ -480,14 +480,6 @@ def check_source(source: CaseSource) -> CaseCheck:
                 pressure=valid.get("pressure") or P_STANDARD, inerts=valid.get("inerts") or (),
                 species=tuple(species), header_lines=MappingProxyType(dict(lines)))
     return CaseCheck(problems, None, case, tuple(unreadable))
-
-
-def _is_formula(text: str) -> bool:
-    try:
-        parse_formula(text)
-    except FormulaError:
-        return False
-    return True
 
 
 def _checked_species(sp: dict[str, Any]) -> LocalSpecies:

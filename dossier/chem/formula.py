@@ -14,6 +14,7 @@ a decimal count (write such compositions as case-local species instead).
 """
 from __future__ import annotations
 
+import functools
 import re
 from dataclasses import dataclass
 from fractions import Fraction
@@ -169,3 +170,14 @@ def parse_formula(text: str) -> Formula:
     if not elements and charge == 0:
         raise FormulaError(f"formula '{original}' has no elements")
     return Formula(original, elements, charge)
+
+
+@functools.lru_cache(maxsize=4096)
+def is_formula(text: str) -> bool:
+    """True when ``text`` reads as a chemical formula (then its letter case is meaningful)."""
+    try:
+        parse_formula(text)
+    except FormulaError:
+        return False
+    return True
+

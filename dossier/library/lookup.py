@@ -12,7 +12,7 @@ import difflib
 import functools
 from typing import Any, Iterable, Mapping
 
-from dossier.chem.formula import hill_formula, parse_formula
+from dossier.chem.formula import hill_formula, is_formula, parse_formula
 from dossier.chem.phases import PHASES, normalise_phase, split_phase
 from dossier.errors import FormulaError, LibraryError, SpeciesError, UnknownSpeciesError
 from dossier.library.datafile import (COL_ALIASES, COL_CAS, COL_FORMULA, COL_NAME, COL_PHASE,
@@ -24,14 +24,6 @@ def _formula_key(composition: Mapping[str, Any], charge: int) -> str:
     return hill_formula({e: n for e, n in composition.items()}, charge)
 
 
-@functools.lru_cache(maxsize=4096)
-def _is_formula(text: str) -> bool:
-    """True when ``text`` reads as a chemical formula (then its letter case is meaningful)."""
-    try:
-        parse_formula(text)
-    except FormulaError:
-        return False
-    return True
 
 
 #: The least similarity (0-100, rapidfuzz's ratio of the letters in common) at which a
@@ -157,7 +149,7 @@ class Library:
             self._index()
         ids: list[str] = []
         for sid, text in self._names.get(label.lower(), ()):  # type: ignore[union-attr]
-            if text != label and _is_formula(text):
+            if text != label and is_formula(text):
                 continue
             if sid not in ids:
                 ids.append(sid)
@@ -317,7 +309,7 @@ def search_rank(query: str, same_formula: bool, names: tuple[str, ...], formula:
 
 def _reads_as_formula(text: str) -> bool:
     """True for a formula, with or without a phase ("N2O", "N2O4(g)")."""
-    return _is_formula(split_phase(text)[0] if split_phase(text)[1] else text)
+    return is_formula(split_phase(text)[0] if split_phase(text)[1] else text)
 
 
 def _ambiguous_message(shown: str, matches: list[SpeciesRecord]) -> str:
