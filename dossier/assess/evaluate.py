@@ -104,16 +104,21 @@ def _evaluation(case: Case, library: Library, extra_temperatures: tuple[float, .
                               lambda T, lnK: plan.system.solve(T, lnK).conversion, settings)
 
     def batch_of(c: Case) -> tuple[BatchResult, tuple[Finding, ...]]:
+        """The batch part of the assessment of ``c`` (the case or one of its variants)."""
         b = assess_batch(c, reaction, resolution, properties, basis, library, settings)
-        if b.safety is not None:
+        if b.safety is not None:  # the case's own draws are made above; a variant's here
+            drawn = sampled if c is case else sample_case(c, resolution, nus, settings)
             b = dataclasses.replace(b, safety=safety_intervals(
-                c, b.safety, properties, sample_case(c, resolution, nus, settings),
-                molar_mass, settings))
+                c, b.safety, properties, drawn, molar_mass, settings))
         return b, run_rules(RuleSubject(case=c, thermo=thermo, safety=b.safety,
                                         species=uses, settings=settings, warnings=warnings))
 
+    def variant_of(c: Case):
+        b, found = batch_of(c)
+        return b.safety, found
+
     batch, findings = batch_of(case)
-    variants = variant_results(case, lambda c: (lambda b, f: (b.safety, f))(*batch_of(c)))
+    variants = variant_results(case, variant_of)
     assessment = Assessment(
         case_id=case.id, title=case.title, revision=case.revision, status=str(case.status),
         owner=case.owner, gate=case.gate,
