@@ -12,8 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-#: The tables a variant may change (see :data:`dossier.casefile.schema.VARIANT_TABLES`).
-CHANGEABLE = ("charge", "vessel", "decomposition", "measured")
+from dossier.casefile.schema import VARIANT_TABLES
 
 
 @dataclass(frozen=True)
@@ -45,7 +44,7 @@ def variant_headers(top: dict[str, Any], raw: dict[str, Any],
         changed["variant"] = None
         changes: list[tuple[str, str]] = []
         own = {k: u for k, u in uncertainty.items() if not k.startswith("variant[")}
-        for table in CHANGEABLE:
+        for table in VARIANT_TABLES:  # the tables a variant may change
             new = var.get(table)
             if not isinstance(new, dict):
                 continue
@@ -66,4 +65,4 @@ def variant_headers(top: dict[str, Any], raw: dict[str, Any],
     return tuple(out)
 
 
-__all__ = ["CHANGEABLE", "VariantHeader", "variant_headers"]
+__all__ = ["VariantHeader", "variant_headers"]
