@@ -24,6 +24,7 @@ from dossier.assess.uncertainty import safety_intervals, sample_case, thermo_int
 from dossier.assess.variants import envelope, variant_results
 from dossier.chem.reaction import Reaction, Term, check_balance, parse_reaction
 from dossier.constants import T_REF
+from dossier.engine.estimate import package_version
 from dossier.engine.phases import StableRange, describe_range, phase_warnings, stable_range
 from dossier.engine.settings import DEFAULT, MethodSettings
 from dossier.engine.thermo import ReactionThermo, temperature_grid
@@ -144,16 +145,7 @@ def method_libraries(case: Case, assessment: Assessment) -> tuple[tuple[str, str
             e.explosophores or not e.explosophore_note.startswith("not checked")
             for e in assessment.safety.energetics):
         used.add("rdkit")
-    return tuple((name, _version(name)) for name in sorted(used))
-
-
-def _version(package: str) -> str:
-    import importlib.metadata  # deferred: about 20 ms (email, zipfile, csv)
-
-    try:
-        return importlib.metadata.version(package)
-    except importlib.metadata.PackageNotFoundError:
-        return "not installed"
+    return tuple((name, package_version(name)) for name in sorted(used))
 
 
 def assess_case(case: Case, library: Library, extra_temperatures: tuple[float, ...] = (),

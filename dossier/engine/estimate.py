@@ -166,11 +166,15 @@ def composition_of(mol) -> dict[str, float]:
 
 # -- Benson (pgradd) -------------------------------------------------------------
 
-def _version(package: str) -> str:
-    """The installed version of a method library, from its package metadata."""
+def package_version(package: str) -> str:
+    """The installed version of a method library, from its package metadata ("not
+    installed" when it is not)."""
     import importlib.metadata  # deferred: about 20 ms (email, zipfile, csv)
 
-    return importlib.metadata.version(package)
+    try:
+        return importlib.metadata.version(package)
+    except importlib.metadata.PackageNotFoundError:
+        return "not installed"
 
 
 @functools.lru_cache(maxsize=1)
@@ -428,9 +432,9 @@ def _gas(mol, method: str, settings: MethodSettings) -> _Gas:
                               f"Joback: {jwhy or 'a group has no heat-capacity value'}"])
     used = {hf.method, s.method, cp_method}
     if "Benson" in used:
-        sources.append(f"{BENSON_SOURCE} {_version('pgradd')}")
+        sources.append(f"{BENSON_SOURCE} {package_version('pgradd')}")
     if "Joback" in used:
-        sources.append(f"{JOBACK_SOURCE} {_version('thermo')}")
+        sources.append(f"{JOBACK_SOURCE} {package_version('thermo')}")
     groups = "; ".join(x for x in (f"Benson: {btext}" if btext and "Benson" in used else "",
                                    _joback_text(job) if "Joback" in used else "") if x)
     tb, tm = _joback_points(job, uj)
@@ -582,13 +586,13 @@ def estimate_species(smiles: str, phase: str, method: str,
                         gas.groups, gas.notes, gas.sources, gas.t_boil, gas.t_melt)
     hf, s, model, cp_u, notes = _liquid(gas, mol, settings)
     cp = Quantity(float(model.cp(T_REF)), cp_u, f"Rowlinson–Poling on {gas.cp_method} gas Cp")
-    joback = f"{JOBACK_SOURCE} {_version('thermo')}"
+    joback = f"{JOBACK_SOURCE} {package_version('thermo')}"
     sources = gas.sources + ((joback,) if joback not in gas.sources else ()) + (
-        f"{LIQUID_SOURCE}; chemicals {_version('chemicals')}",)
+        f"{LIQUID_SOURCE}; chemicals {package_version('chemicals')}",)
     return Estimate(smiles, phase, composition, hf, s, cp, model, gas.sigma, gas.groups,
                     gas.notes + notes, sources, gas.t_boil, gas.t_melt)
 
 
 __all__ = ["METHODS", "ELEMENT_ENTROPY", "BENSON_SOURCE", "JOBACK_SOURCE", "LIQUID_SOURCE",
            "Quantity", "Estimate", "read_structure", "composition_of", "shomate_model",
-           "estimate_species"]
+           "estimate_species", "package_version"]
