@@ -16,7 +16,8 @@ from dossier.engine import energetics
 from dossier.engine.decomposition import Product, max_decomposition_energy
 from dossier.engine.settings import MethodSettings
 from dossier.errors import DossierError
-from dossier.library.lookup import Library
+from dossier.library.datafile import StructureGroups
+from dossier.library.lookup import Library, structure_groups
 from dossier.library.record import SpeciesRecord
 from dossier.model.assessment import EnergeticScreen
 
@@ -66,10 +67,27 @@ def is_screened(rec: SpeciesRecord) -> bool:
     return "N" in comp or any(x in comp for x in ("Cl", "Br", "I"))
 
 
+def known_groups(rec: SpeciesRecord, smiles: str | None,
+                 table: StructureGroups | None) -> energetics.GroupCheck | None:
+    """The groups of ``smiles`` from ``table``, when the table holds that structure, was
+    made with today's group patterns, and gives the record's elements; otherwise None
+    (the structure is then read with RDKit, which also reports a mismatch)."""
+    entry = table.get(smiles) if table is not None and smiles else None
+    if entry is None or table.patterns != energetics.patterns_key():
+        return None
+    elements, counts = entry
+    if {k: round(float(v), 6) for k, v in elements.items()} != {
+            k: round(float(v), 6) for k, v in rec.composition.items()}:
+        return None
+    return energetics.groups_from_counts(counts)
+
+
 def screen_species(rec: SpeciesRecord, smiles: str | None, products: tuple[Product, ...],
-                   settings: MethodSettings) -> EnergeticScreen:
+                   settings: MethodSettings, table: StructureGroups | None = None
+                   ) -> EnergeticScreen:
     """Screen one species on its own estimated maximum decomposition energy (an upper
-    bound) with its onset unknown."""
+    bound) with its onset unknown.  ``table`` gives the groups of known structures
+    (:func:`known_groups`)."""
     comp = rec.composition
     try:
         ob = energetics.oxygen_balance(comp) + 0.0 if rec.charge == 0 else None  # no "-0.0"
@@ -86,7 +104,7 @@ def screen_species(rec: SpeciesRecord, smiles: str | None, products: tuple[Produ
     try:
         # A negative maximum means no exothermic decomposition into these products.
         scr = energetics.un_screening(
-            comp, smiles=smiles,
+            comp, smiles=smiles, groups=known_groups(rec, smiles, table),
             decomposition_energy_J_per_g=max(dec, 0.0) if dec is not None else None,
             settings=settings, labels=SCREENING_LABELS)
         outcome, reason = scr.outcome, scr.reason.replace(*_ONSET_UNKNOWN)
@@ -110,9 +128,10 @@ def screen_terms(terms: tuple[ResolvedTerm, ...], library: Library, settings: Me
     if not chosen:
         return (), ()
     products, records = decomposition_products(library, settings)
-    return (tuple(screen_species(t.record, t.record.smiles, products, settings)
+    table = structure_groups() if any(t.record.smiles for t in chosen) else None
+    return (tuple(screen_species(t.record, t.record.smiles, products, settings, table)
                   for t in chosen), records)
 
 
 __all__ = ["SCREENING_LABELS", "NO_TOOLKIT", "decomposition_products", "is_screened",
-           "screen_species", "screen_terms"]
+           "known_groups", "screen_species", "screen_terms"]

@@ -17,6 +17,7 @@ Provenance
 """
 from __future__ import annotations
 
+import hashlib
 import math
 from dataclasses import dataclass, field
 from fractions import Fraction
@@ -204,6 +205,13 @@ EXTRA_ALERTS: tuple[ExplosophoreGroup, ...] = (
 """Alerts beyond Table A6.1: reported, but not used by the UN screening."""
 
 
+def patterns_key() -> str:
+    """A digest of every group's key and SMARTS patterns: a table of group counts made
+    with other patterns (tools/make_structure_groups.py records this key) is not used."""
+    text = "\n".join(f"{g.key}:{'|'.join(g.smarts)}" for g in EXPLOSOPHORE_GROUPS + EXTRA_ALERTS)
+    return hashlib.sha256(text.encode()).hexdigest()[:16]
+
+
 @dataclass(frozen=True)
 class GroupHit:
     key: str
@@ -250,7 +258,8 @@ def toolkit_available() -> bool:
     return _load_toolkit() is not None
 
 
-def _smiles_formula(Chem, mol) -> dict[str, float]:
+def smiles_elements(Chem, mol) -> dict[str, float]:
+    """The element counts of a structure read by RDKit, hydrogens included."""
     comp: dict[str, float] = {}
     for atom in Chem.AddHs(mol).GetAtoms():
         sym = atom.GetSymbol()
@@ -277,14 +286,20 @@ def find_explosophores(smiles: str | None, formula: FormulaLike | None = None) -
         raise FormulaError(f"cannot read SMILES '{smiles}'")
     if formula is not None:
         want, _, text = composition_of(formula)
-        got = _smiles_formula(Chem, mol)
+        got = smiles_elements(Chem, mol)
         if {k: round(v, 6) for k, v in want.items()} != {k: round(v, 6) for k, v in got.items()}:
             raise FormulaError(
                 f"SMILES '{smiles}' has elements "
                 f"{', '.join(f'{k}{v:g}' for k, v in sorted(got.items()))} but the formula "
                 f"'{text}' has {', '.join(f'{k}{v:g}' for k, v in sorted(want.items()))}"
             )
-    hits = []
+    return groups_from_counts(group_counts(Chem, mol))
+
+
+def group_counts(Chem, mol) -> dict[str, int]:
+    """How many distinct atom sets of ``mol`` match each group of
+    :data:`EXPLOSOPHORE_GROUPS` and :data:`EXTRA_ALERTS` (groups with no match are left out)."""
+    counts: dict[str, int] = {}
     for group in EXPLOSOPHORE_GROUPS + EXTRA_ALERTS:
         matched: set[tuple[int, ...]] = set()
         for sm in group.smarts:
@@ -292,8 +307,15 @@ def find_explosophores(smiles: str | None, formula: FormulaLike | None = None) -
             for match in mol.GetSubstructMatches(patt, uniquify=True):
                 matched.add(tuple(sorted(match)))
         if matched:
-            hits.append(GroupHit(group.key, group.name, group.contains_oxygen,
-                                 group.in_un_table, len(matched)))
+            counts[group.key] = len(matched)
+    return counts
+
+
+def groups_from_counts(counts: Mapping[str, int]) -> GroupCheck:
+    """The :class:`GroupCheck` of a structure whose group counts are known (from
+    :func:`group_counts`, or from a table of them made with it)."""
+    hits = [GroupHit(g.key, g.name, g.contains_oxygen, g.in_un_table, int(counts[g.key]))
+            for g in EXPLOSOPHORE_GROUPS + EXTRA_ALERTS if counts.get(g.key)]
     if any(h.in_un_table for h in hits):
         note = "groups found: " + ", ".join(h.name for h in hits if h.in_un_table)
     else:

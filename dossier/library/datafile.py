@@ -33,8 +33,12 @@ FILE_FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase"
 _F = {name: i for i, name in enumerate(FILE_FIELDS)}
 
 #: Column of each field that lookups read from rows not yet turned into records.
-COL_ID, COL_NAME, COL_ALIASES, COL_FORMULA, COL_PHASE, COL_SOURCE, COL_CAS = (
-    _F["id"], _F["name"], _F["aliases"], _F["formula"], _F["phase"], _F["source"], _F["cas"])
+COL_ID, COL_NAME, COL_ALIASES, COL_FORMULA, COL_PHASE, COL_SOURCE, COL_CAS, COL_SMILES = (
+    _F["id"], _F["name"], _F["aliases"], _F["formula"], _F["phase"], _F["source"], _F["cas"],
+    _F["smiles"])
+
+#: Format of ``dossier/data/structure_groups.json`` this code reads.
+STRUCTURE_GROUPS_FORMAT = 1
 _COL_PHASE_DATA = _F["phase_data"]
 
 
@@ -45,6 +49,50 @@ class SpeciesData:
     version: str                     # library version + short hash of the file's bytes
     citations: dict[str, str]        # source key -> citation
     rows: dict[str, list]            # species id -> row in FILE_FIELDS order
+
+
+@dataclass(frozen=True)
+class StructureGroups:
+    """The explosophore groups of the library's structures, found once with RDKit
+    (``dossier/data/structure_groups.json``, written by tools/make_structure_groups.py)."""
+
+    patterns: str                    # digest of the group patterns the table was made with
+    made_with: str                   # e.g. "rdkit 2026.9.1"
+    entries: dict[str, list]         # SMILES -> [element counts, group counts]
+
+    def get(self, smiles: str) -> tuple[dict[str, int], dict[str, int]] | None:
+        """The element and group counts of ``smiles`` as written, or None."""
+        entry = self.entries.get(smiles)
+        return (entry[0], entry[1]) if entry is not None else None
+
+
+def read_structure_groups(raw: bytes) -> StructureGroups:
+    """Parse and check the bytes of a table written by tools/make_structure_groups.py."""
+    try:
+        data = json.loads(raw)
+    except ValueError as exc:
+        raise LibraryError(f"structure groups file is not valid JSON: {exc}") from None
+    if not isinstance(data, dict) or data.get("format") != STRUCTURE_GROUPS_FORMAT:
+        found = data.get("format") if isinstance(data, dict) else "?"
+        raise LibraryError(f"structure groups file has format {found}, "
+                           f"this dossier reads format {STRUCTURE_GROUPS_FORMAT}")
+    try:
+        entries = data["groups"]
+        if not all(isinstance(v, list) and len(v) == 2 and isinstance(v[0], dict)
+                   and isinstance(v[1], dict) for v in entries.values()):
+            raise TypeError("an entry is not [elements, groups]")
+        return StructureGroups(patterns=str(data["patterns"]), made_with=str(data["made_with"]),
+                               entries=entries)
+    except (KeyError, TypeError, AttributeError) as exc:
+        raise LibraryError(f"structure groups file is damaged: {exc}") from None
+
+
+def read_package_groups() -> bytes:
+    """The bytes of the structure groups table shipped in the package."""
+    try:
+        return resources.files("dossier").joinpath("data/structure_groups.json").read_bytes()
+    except (FileNotFoundError, OSError) as exc:
+        raise LibraryError(f"structure groups file is missing: {exc}") from None
 
 
 def read_package_data() -> bytes:
@@ -141,5 +189,6 @@ def record_from_row(row: list, citations: Mapping[str, str]) -> SpeciesRecord:
 
 
 __all__ = ["DATA_FORMAT", "FILE_FIELDS", "COL_ID", "COL_NAME", "COL_ALIASES", "COL_FORMULA",
-           "COL_PHASE", "COL_SOURCE", "COL_CAS", "SpeciesData", "read_package_data",
-           "read_species_data", "record_from_row"]
+           "COL_PHASE", "COL_SOURCE", "COL_CAS", "COL_SMILES", "STRUCTURE_GROUPS_FORMAT",
+           "SpeciesData", "StructureGroups", "read_package_data", "read_package_groups",
+           "read_species_data", "read_structure_groups", "record_from_row"]

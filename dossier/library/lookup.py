@@ -16,7 +16,8 @@ from dossier.chem.formula import hill_formula, is_formula, parse_formula
 from dossier.chem.phases import PHASES, normalise_phase, split_phase
 from dossier.errors import FormulaError, LibraryError, SpeciesError, UnknownSpeciesError
 from dossier.library.datafile import (COL_ALIASES, COL_CAS, COL_FORMULA, COL_NAME, COL_PHASE,
-                                      read_package_data, read_species_data, record_from_row)
+                                      StructureGroups, read_package_data, read_package_groups,
+                                      read_species_data, read_structure_groups, record_from_row)
 from dossier.library.record import SpeciesRecord
 
 
@@ -320,9 +321,15 @@ def _ambiguous_message(shown: str, matches: list[SpeciesRecord]) -> str:
 
 
 @functools.lru_cache(maxsize=1)
+def structure_groups() -> StructureGroups:
+    """The explosophore groups of the library's structures, read once on first use."""
+    return read_structure_groups(read_package_groups())
+
+
+@functools.lru_cache(maxsize=1)
 def default_library() -> Library:
     """The library shipped with dossier, read once."""
     return Library.from_json_bytes(read_package_data())
 
 
-__all__ = ["Library", "default_library", "search_rank", "SEARCH_CUTOFF"]
+__all__ = ["Library", "default_library", "structure_groups", "search_rank", "SEARCH_CUTOFF"]
