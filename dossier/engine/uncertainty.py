@@ -59,12 +59,34 @@ def interval(samples: np.ndarray, coverage: float = 0.95
         return None
     tail = (1.0 - coverage) / 2.0 * 100.0
     with np.errstate(invalid="ignore"):  # between two infinite draws: inf - inf
-        lo, hi = np.percentile(s, [tail, 100.0 - tail])
+        lo, hi = percentiles(s, (tail, 100.0 - tail))
     if math.isnan(lo) or math.isnan(hi):  # an end among infinite draws is infinite
         near_lo, near_hi = np.percentile(s, [tail, 100.0 - tail], method="nearest")
         lo = near_lo if math.isnan(lo) else lo
         hi = near_hi if math.isnan(hi) else hi
     return (float(lo) if math.isfinite(lo) else None, float(hi) if math.isfinite(hi) else None)
+
+
+def percentiles(samples: np.ndarray, percents: tuple[float, ...]) -> np.ndarray:
+    """``np.percentile(samples, percents)`` with its default ("linear") method, the same
+    numbers to the last bit, for a 1-D array without NaN.  Written out because numpy's
+    own imports numpy.ma on first use (about 14 ms of `dossier evaluate`); the steps
+    are numpy's (virtual index ``(n - 1) q``, neighbours clipped to the ends,
+    interpolation from the nearer neighbour)."""
+    s = np.sort(np.asarray(samples, dtype=float))
+    n = s.size
+    q = np.asarray(percents, dtype=float) / 100.0
+    virtual = (n - 1) * q
+    before = np.floor(virtual)
+    after = before + 1
+    before[virtual >= n - 1] = after[virtual >= n - 1] = -1
+    before[virtual < 0] = after[virtual < 0] = 0
+    gamma = virtual - before
+    a, b = s[before.astype(np.intp)], s[after.astype(np.intp)]
+    diff = b - a
+    out = a + diff * gamma
+    np.subtract(b, diff * (1 - gamma), out=out, where=gamma >= 0.5)
+    return out
 
 
 @dataclass(frozen=True)

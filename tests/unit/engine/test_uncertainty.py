@@ -6,10 +6,11 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, strategies as st
 
 from dossier.engine.safety import criticality_class, criticality_classes, td24, td24_many
 from dossier.engine.uncertainty import (Z_95, ScenarioDraws, class_shares, draw, interval,
-                                        reaction_shifts, scenario_samples)
+                                        percentiles, reaction_shifts, scenario_samples)
 
 
 def test_z_is_the_975th_percentile_of_the_normal_distribution():
@@ -107,3 +108,20 @@ def test_class_shares_sum_to_one_most_likely_first():
     assert shares == ((4, pytest.approx(4 / 6)), (3, pytest.approx(2 / 6)))
     assert sum(p for _k, p in shares) == pytest.approx(1.0)
     assert class_shares(np.array([0, 0])) == ()
+
+
+@given(st.lists(st.floats(min_value=-1e9, max_value=1e9, allow_nan=False)
+                | st.sampled_from([math.inf, -math.inf]), min_size=1, max_size=80),
+       st.lists(st.floats(min_value=0.0, max_value=100.0), min_size=1, max_size=4))
+def test_percentiles_are_numpys_to_the_last_bit(values, percents):
+    # reference: numpy.percentile, default ("linear", Hyndman and Fan type 7) method
+    a = np.array(values)
+    with np.errstate(invalid="ignore"):  # inf - inf between two infinite draws
+        got = percentiles(a, tuple(percents))
+        want = np.percentile(a, percents)
+    assert np.array_equal(got, want, equal_nan=True), (got, want)
+
+
+def test_percentiles_of_a_hand_example():
+    # hand calculation: 0..10, the 25th percentile sits at index 2.5 -> 2.5
+    assert percentiles(np.arange(11.0), (25.0, 2.5, 97.5)).tolist() == [2.5, 0.25, 9.75]
