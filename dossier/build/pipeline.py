@@ -58,7 +58,9 @@ from dossier.build.writer import (SiteLock, check_target, is_within, read_manife
 from dossier.errors import CaseError, DossierError, Problem
 from dossier.render.views import CaseView, FailedCase, MeetingView
 from dossier.engine.settings import DEFAULT, MethodSettings
-from dossier.review.inputs import CaseInputs, FileRead, policy_settings, read_case_inputs, read_policy
+from dossier.review.inputs import CaseInputs, read_case_inputs
+from dossier.review.optional import FileRead
+from dossier.review.policy import policy_settings, read_policy
 
 #: The kinds of unit a build makes or takes from the cache.  Views (a case's
 #: figures and derivation) are kept apart inside case units and are counted

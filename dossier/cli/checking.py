@@ -20,7 +20,8 @@ from dossier.build.assessing import CaseFailure, assess_inputs
 from dossier.casefile.load import load_case, read_source
 from dossier.errors import EXIT_BAD_INPUT, DossierError
 from dossier.library.lookup import Library
-from dossier.review.inputs import policy_settings, read_case_inputs, read_policy
+from dossier.review.inputs import read_case_inputs
+from dossier.review.policy import policy_settings, read_policy
 from dossier.review.revisions import archived_revisions
 
 

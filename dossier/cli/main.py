@@ -28,7 +28,7 @@ from dossier.errors import EXIT_BAD_INPUT, DossierError, Problem, UnitError
 from dossier.library.lookup import Library
 from dossier.render.species_text import describe
 from dossier.render.terminal import render_assessment
-from dossier.review.inputs import policy_settings, read_policy
+from dossier.review.policy import policy_settings, read_policy
 
 #: Commands that live in other modules of this package, loaded on first use:
 #: command name -> module whose ``COMMANDS`` tuple holds it.  The one dynamic

@@ -23,7 +23,7 @@ from dossier.errors import (EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK, DossierE
 from dossier.review import digest as integrity
 from dossier.review.conditions import next_condition_number, track_conditions
 from dossier.review.digest import short_digest
-from dossier.review.inputs import read_optional
+from dossier.review.optional import read_optional
 from dossier.review.keys import (TRUSTED_KEYS_FILE, TrustedKey, generate_keypair,
                                  load_private_key, parse_trusted_keys, public_key_text,
                                  trusted_keys_path, write_private_key_in)

@@ -44,7 +44,7 @@ from dossier.errors import LibraryError
 from dossier.library.lookup import Library
 from dossier.model.assessment import Assessment
 from dossier.model.case import Case
-from dossier.review.inputs import policy_settings, read_policy
+from dossier.review.policy import policy_settings, read_policy
 from dossier.review.revisions import key_figures
 from dossier.review.signatures import ReviewParts
 from dossier.review.verdicts import CurrentCase

@@ -10,30 +10,17 @@ files); the signature and key files by :func:`read_optional`.
 """
 from __future__ import annotations
 
-import os
 from dataclasses import dataclass
 from pathlib import Path
 
-from dossier.casefile.load import CaseSource, not_regular, read_source
-from dossier.engine.settings import DEFAULT, MethodSettings
-from dossier.errors import CaseError, DossierError, Problem
-from dossier.review.revisions import archived_revisions
+from dossier.casefile.load import CaseSource, read_source
+from dossier.engine.settings import MethodSettings
+from dossier.errors import DossierError
+from dossier.review.optional import FileRead, read_optional
 from dossier.review.keys import trusted_keys_path
-from dossier.review.policy import parse_policy, policy_path
+from dossier.review.policy import policy_settings, read_policy
+from dossier.review.revisions import archived_revisions
 from dossier.review.signatures import signatures_path
-
-
-@dataclass(frozen=True)
-class FileRead:
-    """A file that may be absent: its bytes, or why they could not be read."""
-
-    path: Path
-    data: bytes | None = None
-    problem: str | None = None  # e.g. "cannot read the signatures: Permission denied"
-
-    @property
-    def exists(self) -> bool:
-        return self.data is not None or self.problem is not None
 
 
 @dataclass(frozen=True)
@@ -80,46 +67,6 @@ def _bytes(read: FileRead) -> bytes:
     return f"unreadable: {read.problem or 'absent'}".encode()
 
 
-def read_optional(path: Path, what: str) -> FileRead:
-    """The bytes of ``path`` if it is a regular file; absent is not a problem.
-
-    Opened without waiting (a named pipe is refused, not waited on) and checked
-    on the open file, so a file swapped for a pipe after a check is refused too.
-    """
-    if not path.exists() and not path.is_symlink():
-        return FileRead(path)
-    try:
-        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
-    except OSError as err:
-        return FileRead(path, problem=f"{path}: cannot read the {what}: {err.strerror or err}")
-    try:
-        kind = not_regular(os.fstat(fd).st_mode)
-        if kind:
-            return FileRead(path, problem=f"{path}: cannot read the {what}: {kind}")
-        with os.fdopen(os.dup(fd), "rb") as fh:
-            return FileRead(path, fh.read())
-    except OSError as err:
-        return FileRead(path, problem=f"{path}: cannot read the {what}: {err.strerror or err}")
-    finally:
-        os.close(fd)
-
-
-def read_policy(cases_folder: str | Path) -> FileRead:
-    """The board's policy file of ``cases_folder`` (read once per build)."""
-    return read_optional(policy_path(Path(cases_folder)), "board policy")
-
-
-def policy_settings(policy: FileRead | None) -> MethodSettings:
-    """The settings a policy file read gives: the defaults when there is none;
-    a :class:`~dossier.errors.CaseError` naming the file when it cannot be used."""
-    if policy is None or not policy.exists:
-        return DEFAULT
-    if policy.data is None:
-        why = (policy.problem or "cannot read the board policy").removeprefix(f"{policy.path}: ")
-        raise CaseError(Problem(why, str(policy.path)))
-    return parse_policy(policy.path, policy.data)
-
-
 def read_case_inputs(path: str | Path, policy: FileRead | None = None) -> CaseInputs:
     """Read the case file at ``path`` and every file beside it that it rests on;
     ``policy`` is the cases folder's policy file when the caller read it already.
@@ -144,5 +91,4 @@ def read_case_inputs(path: str | Path, policy: FileRead | None = None) -> CaseIn
     return CaseInputs(source, tuple(kept), sig, trusted, policy)
 
 
-__all__ = ["FileRead", "KeptRevision", "CaseInputs", "read_optional", "read_policy",
-           "policy_settings", "read_case_inputs"]
+__all__ = ["KeptRevision", "CaseInputs", "read_case_inputs"]

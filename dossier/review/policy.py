@@ -40,6 +40,7 @@ from dossier.casefile.locate import locate_keys
 from dossier.engine.settings import DEFAULT, POLICY_KEYS, MethodSettings
 from dossier.errors import CaseError, Problem
 from dossier.model.findings import SEVERITIES
+from dossier.review.optional import FileRead, read_optional
 
 #: The policy file's name in the cases folder.
 POLICY_FILE = "board-policy.toml"
@@ -56,6 +57,22 @@ _ANY_NUMBER = ("un_oxygen_balance_pct",)
 def policy_path(cases_folder: Path) -> Path:
     """Where the policy of the cases in ``cases_folder`` is."""
     return Path(cases_folder) / POLICY_FILE
+
+
+def read_policy(cases_folder: str | Path) -> FileRead:
+    """The board's policy file of ``cases_folder`` (read once per build)."""
+    return read_optional(policy_path(Path(cases_folder)), "board policy")
+
+
+def policy_settings(policy: FileRead | None) -> MethodSettings:
+    """The settings a policy file read gives: the defaults when there is none;
+    a :class:`~dossier.errors.CaseError` naming the file when it cannot be used."""
+    if policy is None or not policy.exists:
+        return DEFAULT
+    if policy.data is None:
+        why = (policy.problem or "cannot read the board policy").removeprefix(f"{policy.path}: ")
+        raise CaseError(Problem(why, str(policy.path)))
+    return parse_policy(policy.path, policy.data)
 
 
 def parse_policy(path: Path, data: bytes, base: MethodSettings = DEFAULT) -> MethodSettings:
@@ -193,4 +210,5 @@ def _value(key: str, raw: Any, base: MethodSettings, problem) -> Any:
     return x
 
 
-__all__ = ["POLICY_FILE", "MAX_POLICY_BYTES", "policy_path", "parse_policy"]
+__all__ = ["POLICY_FILE", "MAX_POLICY_BYTES", "policy_path", "parse_policy", "policy_settings",
+           "read_policy"]

@@ -37,8 +37,8 @@ FILE_IO = {
                                        writes="signature files (append under a lock)"),
     "dossier.review.keys": Grant(reads="private keys and the trusted-keys file",
                                  writes="a new private key and its folder"),
-    "dossier.review.inputs": Grant(reads="the signature and trusted-keys files beside a case "
-                                         "and the board's policy file, once per build"),
+    "dossier.review.optional": Grant(reads="the signature and trusted-keys files beside a case "
+                                           "and the board's policy file, once per build"),
     "dossier.render.pages": Grant(reads="the page templates (importlib.resources)"),
     "dossier.render.guide": Grant(reads="the guide's Markdown sources (importlib.resources)"),
     "dossier.build.keys": Grant(reads="templates, guide sources and species data, "
