@@ -82,11 +82,12 @@ import aqueous_heat_capacities as aq_cp  # noqa: E402
 import library_phase_data as phase_tool  # noqa: E402
 from dossier.chem.formula import hill_formula, parse_formula  # noqa: E402
 from dossier.constants import R, T_REF  # noqa: E402
+from dossier.library.datafile import DATA_FORMAT, FILE_FIELDS, LOOKUP_FIELDS  # noqa: E402
 from dossier.library.models import ConstantCp, Nasa7, Shomate  # noqa: E402
 from dossier.library.record import SpeciesRecord  # noqa: E402
 
-FORMAT = 2
-LIBRARY_VERSION = "2026.12.2"
+FORMAT = DATA_FORMAT
+LIBRARY_VERSION = "2026.12.3"
 GENERATED = "2026-12-01"  # fixed on purpose: the output must not depend on the clock
 OUT = ROOT / "dossier" / "data" / "species.json"
 
@@ -1218,30 +1219,38 @@ def build() -> tuple[dict, dict]:
     return data, report
 
 
-FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase", "model",
-          "source", "note", "uncertainty", "cas", "molar_mass", "smiles", "phase_data",
-          "missing")
+FIELDS = FILE_FIELDS
 
 
 _ABSENT = {f: None for f in FIELDS} | {"missing": []}
+
+
+def _row(values: list) -> str:
+    return json.dumps(values, sort_keys=True, ensure_ascii=False, separators=(",", ":"))
 
 
 def dumps(data: dict) -> str:
     """Deterministic JSON: header keys sorted, then one record per line.
 
     Records are written as arrays in the order of the header's "fields" list
-    (much faster to parse than one object per record).
+    (much faster to parse than one object per record), one per line, which is
+    the layout dossier.library.datafile reads: it parses the header, whose
+    "lookup" table (one entry per line, in the order of the records) gives what a
+    lookup by name or formula needs, and each record's line only when that record
+    is used.
     """
     head = {k: v for k, v in data.items() if k != "records"}
     head["fields"] = list(FIELDS)
+    head["lookup_fields"] = list(LOOKUP_FIELDS)
     lines = ["{"]
     for k in sorted(head):
         lines.append(f"{json.dumps(k)}: {json.dumps(head[k], sort_keys=True, ensure_ascii=False)},")
+    lines.append('"lookup": [')
+    lines.append(",\n".join(_row([r.get(f, _ABSENT.get(f)) for f in LOOKUP_FIELDS])
+                            for r in data["records"]))
+    lines.append("],")
     lines.append('"records": [')
-    rows = [json.dumps([r.get(f, _ABSENT[f]) for f in FIELDS], sort_keys=True, ensure_ascii=False,
-                       separators=(",", ":"))
-            for r in data["records"]]
-    lines.append(",\n".join(rows))
+    lines.append(",\n".join(_row([r.get(f, _ABSENT[f]) for f in FIELDS]) for r in data["records"]))
     lines.append("]")
     lines.append("}")
     return "\n".join(lines) + "\n"

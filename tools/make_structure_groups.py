@@ -64,7 +64,7 @@ def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--out", default=DEFAULT_OUT)
     args = parser.parse_args()
-    rows = read_species_data(read_package_data()).rows.values()
+    rows = read_species_data(read_package_data()).parsed_rows()
     smiles = [row[COL_SMILES] for row in rows if row[COL_SMILES]]
     from rdkit import __version__ as rdkit_version
 

@@ -1,10 +1,15 @@
 """The species data file, ``dossier/data/species.json``: its layout and its reader.
 
 The file is written by ``tools/build_library.py``: a header (format, library
-version, sources with their citations, the list of record ``fields``) and the
-records as arrays in the order of :data:`FILE_FIELDS`.  This is the only
-module that reads it; the rows stay parsed JSON until a record is needed
-(:func:`record_from_row`), so that loading stays fast.
+version, sources with their citations, the list of record ``fields``, and a
+``lookup`` table: id, name, aliases, formula, phase and CAS number of every
+record), then the records as arrays in the order of :data:`FILE_FIELDS`, one
+per line and in the order of the lookup table.  This is the only module that
+reads it.  Loading parses the header alone; a record's line is parsed and
+checked when the record is first needed (:func:`parse_row`), so that
+``dossier evaluate`` does not parse 2,700 records to use ten.
+:func:`check_species_data` parses and checks every line (the tests and the
+tools do).
 """
 from __future__ import annotations
 
@@ -13,7 +18,7 @@ import hashlib
 import json
 from dataclasses import dataclass
 from importlib import resources
-from typing import Mapping
+from typing import Iterator, Mapping
 
 from dossier.chem.phases import PHASES
 from dossier.errors import LibraryError
@@ -23,8 +28,9 @@ from dossier.library.record import MISSING_PROPERTIES, SpeciesRecord
 
 #: Data-file format this code reads.  Format 2 replaced the "stable_range" column
 #: (often a data-fit range) by phase boundaries ("phase_data") and added the
-#: structure ("smiles") and the properties the source lacks ("missing").
-DATA_FORMAT = 2
+#: structure ("smiles") and the properties the source lacks ("missing").  Format 3
+#: added the header's "lookup" table and fixed the layout (one record per line).
+DATA_FORMAT = 3
 
 # Column order of records in the data file (its header repeats it as "fields").
 FILE_FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase", "model",
@@ -32,23 +38,38 @@ FILE_FIELDS = ("id", "name", "aliases", "formula", "elements", "charge", "phase"
                "missing")
 _F = {name: i for i, name in enumerate(FILE_FIELDS)}
 
-#: Column of each field that lookups read from rows not yet turned into records.
-COL_ID, COL_NAME, COL_ALIASES, COL_FORMULA, COL_PHASE, COL_SOURCE, COL_CAS, COL_SMILES = (
-    _F["id"], _F["name"], _F["aliases"], _F["formula"], _F["phase"], _F["source"], _F["cas"],
-    _F["smiles"])
+#: The columns of the header's lookup table, in order: what a lookup by name,
+#: formula or CAS number reads without parsing the record.
+LOOKUP_FIELDS = ("id", "name", "aliases", "formula", "phase", "cas")
+#: Column of each field in a lookup entry (entries stay the lists JSON gives: making
+#: 2,700 objects would cost more than the parsing saves).
+LK_ID, LK_NAME, LK_ALIASES, LK_FORMULA, LK_PHASE, LK_CAS = range(len(LOOKUP_FIELDS))
+
+#: Column of each field in a record's row.
+COL_ID, COL_SOURCE, COL_SMILES = _F["id"], _F["source"], _F["smiles"]
+_COL_PHASE_DATA = _F["phase_data"]
+
+#: Where the records begin and how the file ends, as tools/build_library.py writes it.
+_RECORDS_START = b'\n"records": [\n'
+_RECORDS_END = b"\n]\n}\n"
 
 #: Format of ``dossier/data/structure_groups.json`` this code reads.
 STRUCTURE_GROUPS_FORMAT = 1
-_COL_PHASE_DATA = _F["phase_data"]
 
 
 @dataclass(frozen=True)
 class SpeciesData:
-    """The contents of a data file: rows checked for shape, not yet records."""
+    """The contents of a data file: the header read, the records' lines not yet parsed."""
 
     version: str                     # library version + short hash of the file's bytes
     citations: dict[str, str]        # source key -> citation
-    rows: dict[str, list]            # species id -> row in FILE_FIELDS order
+    lookup: dict[str, list]          # species id -> its lookup entry (LOOKUP_FIELDS), file order
+    rows: dict[str, bytes]           # species id -> its record's line (JSON), unparsed
+
+    def parsed_rows(self) -> Iterator[list]:
+        """Every record's row, parsed and checked (:func:`parse_row`), in file order."""
+        for sid, line in self.rows.items():
+            yield parse_row(sid, line, self.citations)
 
 
 @dataclass(frozen=True)
@@ -104,41 +125,92 @@ def read_package_data() -> bytes:
 
 
 def read_species_data(raw: bytes) -> SpeciesData:
-    """Parse and check the bytes of a data file written by tools/build_library.py."""
+    """Read the header of a data file written by tools/build_library.py and split its
+    records into lines (parsed later, one by one, by :func:`parse_row`)."""
+    start = raw.find(_RECORDS_START)
+    if start < 0 or not raw.endswith(_RECORDS_END):
+        raise LibraryError("species data file is not laid out as tools/build_library.py "
+                           "writes it (a header, then one record per line)")
+    head_text = raw[:start].rstrip().removesuffix(b",") + b"\n}"
     gc_was_on = gc.isenabled()
     gc.disable()  # parsing creates many small lists; collecting meanwhile only costs time
     try:
-        data = json.loads(raw)
+        head = json.loads(head_text)
     except ValueError as exc:
         raise LibraryError(f"species data file is not valid JSON: {exc}") from None
     finally:
         if gc_was_on:
             gc.enable()
-    if not isinstance(data, dict) or data.get("format") != DATA_FORMAT:
-        found = data.get("format") if isinstance(data, dict) else "?"
+    if not isinstance(head, dict) or head.get("format") != DATA_FORMAT:
+        found = head.get("format") if isinstance(head, dict) else "?"
         raise LibraryError(f"species data file has format {found}, "
                            f"this dossier reads format {DATA_FORMAT}")
-    if tuple(data.get("fields", ())) != FILE_FIELDS:
+    if tuple(head.get("fields", ())) != FILE_FIELDS:
         raise LibraryError("species data file lists unexpected record fields "
-                           f"{data.get('fields')}; expected {list(FILE_FIELDS)}")
+                           f"{head.get('fields')}; expected {list(FILE_FIELDS)}")
+    if tuple(head.get("lookup_fields", ())) != LOOKUP_FIELDS:
+        raise LibraryError("species data file lists unexpected lookup fields "
+                           f"{head.get('lookup_fields')}; expected {list(LOOKUP_FIELDS)}")
+    lines = raw[start + len(_RECORDS_START):-len(_RECORDS_END)].split(b",\n")
     try:
-        citations = {k: v["citation"] for k, v in data["sources"].items()}
-        rows: dict[str, list] = {}
-        for row in data["records"]:
-            if len(row) != len(FILE_FIELDS):
-                raise LibraryError(f"species data file: record {row[:1]} has "
-                                   f"{len(row)} fields, expected {len(FILE_FIELDS)}")
-            if row[COL_ID] in rows:
-                raise LibraryError(f"species data file: duplicate id '{row[COL_ID]}'")
-            for key in (row[COL_SOURCE], *_phase_source_keys(row[_COL_PHASE_DATA])):
-                if key not in citations:
-                    raise LibraryError(f"species data file: record '{row[COL_ID]}' names "
-                                       f"unknown source '{key}'")
-            rows[row[COL_ID]] = row
-    except (KeyError, TypeError, AttributeError) as exc:
+        citations = {k: v["citation"] for k, v in head["sources"].items()}
+        entries = head["lookup"]
+        if len(entries) != len(lines):
+            raise LibraryError(f"species data file: the lookup table has {len(entries)} "
+                               f"entries but there are {len(lines)} records")
+        lookup = {e[LK_ID]: e for e in entries}
+        if len(lookup) != len(entries):
+            seen: set[str] = set()
+            twice = next(e[LK_ID] for e in entries if e[LK_ID] in seen or seen.add(e[LK_ID]))
+            raise LibraryError(f"species data file: duplicate id '{twice}'")
+    except (KeyError, TypeError, AttributeError, IndexError) as exc:
         raise LibraryError(f"species data file is damaged: missing {exc}") from None
-    version = f"{data.get('library_version', '?')}+{hashlib.sha256(raw).hexdigest()[:12]}"
-    return SpeciesData(version=version, citations=citations, rows=rows)
+    version = f"{head.get('library_version', '?')}+{hashlib.sha256(raw).hexdigest()[:12]}"
+    return SpeciesData(version=version, citations=citations, lookup=lookup,
+                       rows=dict(zip(lookup, lines)))
+
+
+def parse_row(species_id: str, line: bytes, citations: Mapping[str, str]) -> list:
+    """The row of one record's line, checked: valid JSON, the number of fields, the id
+    its lookup entry gives, and sources the header cites."""
+    try:
+        row = json.loads(line)
+    except ValueError as exc:
+        raise LibraryError(f"species data file: record '{species_id}' is not valid JSON: "
+                           f"{exc}") from None
+    if not isinstance(row, list) or len(row) != len(FILE_FIELDS):
+        raise LibraryError(f"species data file: record '{species_id}' has "
+                           f"{len(row) if isinstance(row, list) else 0} fields, "
+                           f"expected {len(FILE_FIELDS)}")
+    if row[COL_ID] != species_id:
+        raise LibraryError(f"species data file: the line of record '{species_id}' holds "
+                           f"record '{row[COL_ID]}' (records and lookup table out of order)")
+    try:
+        keys = (row[COL_SOURCE], *_phase_source_keys(row[_COL_PHASE_DATA]))
+    except (KeyError, TypeError, AttributeError) as exc:
+        raise LibraryError(f"species data file: record '{species_id}' is damaged: "
+                           f"missing {exc}") from None
+    for key in keys:
+        if key not in citations:
+            raise LibraryError(f"species data file: record '{species_id}' names "
+                               f"unknown source '{key}'")
+    return row
+
+
+def check_species_data(data: SpeciesData) -> int:
+    """Parse and check every record of ``data`` (each as :func:`parse_row` and
+    :func:`record_from_row` do, and its lookup entry against the record); the
+    number of records.  Raises :class:`LibraryError` at the first problem."""
+    n = 0
+    for row in data.parsed_rows():
+        rec = record_from_row(row, data.citations)
+        entry = data.lookup[rec.id]
+        if [entry[LK_NAME], tuple(entry[LK_ALIASES]), entry[LK_FORMULA], entry[LK_PHASE],
+                entry[LK_CAS]] != [rec.name, rec.aliases, row[_F["formula"]], rec.phase, rec.cas]:
+            raise LibraryError(f"species data file: the lookup entry of '{rec.id}' differs "
+                               "from its record")
+        n += 1
+    return n
 
 
 def _phase_source_keys(pd: dict | None) -> list[str]:
@@ -188,7 +260,8 @@ def record_from_row(row: list, citations: Mapping[str, str]) -> SpeciesRecord:
         missing=tuple(missing))
 
 
-__all__ = ["DATA_FORMAT", "FILE_FIELDS", "COL_ID", "COL_NAME", "COL_ALIASES", "COL_FORMULA",
-           "COL_PHASE", "COL_SOURCE", "COL_CAS", "COL_SMILES", "STRUCTURE_GROUPS_FORMAT",
-           "SpeciesData", "StructureGroups", "read_package_data", "read_package_groups",
+__all__ = ["DATA_FORMAT", "FILE_FIELDS", "LOOKUP_FIELDS", "COL_ID", "COL_SOURCE", "COL_SMILES",
+           "STRUCTURE_GROUPS_FORMAT", "LK_ID", "LK_NAME", "LK_ALIASES", "LK_FORMULA",
+           "LK_PHASE", "LK_CAS", "SpeciesData", "StructureGroups",
+           "check_species_data", "parse_row", "read_package_data", "read_package_groups",
            "read_species_data", "read_structure_groups", "record_from_row"]

@@ -15,9 +15,10 @@ from typing import Any, Iterable, Mapping
 from dossier.chem.formula import hill_formula, is_formula, parse_formula
 from dossier.chem.phases import PHASES, normalise_phase, split_phase
 from dossier.errors import FormulaError, LibraryError, SpeciesError, UnknownSpeciesError
-from dossier.library.datafile import (COL_ALIASES, COL_CAS, COL_FORMULA, COL_NAME, COL_PHASE,
-                                      StructureGroups, read_package_data, read_package_groups,
-                                      read_species_data, read_structure_groups, record_from_row)
+from dossier.library.datafile import (LK_ALIASES, LK_CAS, LK_FORMULA, LK_NAME, LK_PHASE,
+                                      StructureGroups, parse_row, read_package_data,
+                                      read_package_groups, read_species_data,
+                                      read_structure_groups, record_from_row)
 from dossier.library.record import SpeciesRecord
 
 
@@ -37,14 +38,16 @@ SEARCH_CUTOFF = 85.0
 class Library:
     """An immutable collection of species records with lookup by id, name or formula.
 
-    Records read from the data file are kept as parsed JSON and turned into
-    :class:`SpeciesRecord` objects on first use, so that loading stays fast.
+    Records read from the data file are kept as their unparsed lines and turned
+    into :class:`SpeciesRecord` objects on first use; lookups read the file's
+    lookup table (``_lookup``) meanwhile, so that loading stays fast.
     """
 
     def __init__(self, records: Iterable[SpeciesRecord] = (), version: str = "local",
                  sources: Mapping[str, str] | None = None,
                  overridden: Iterable[str] = (), local_ids: Iterable[str] = ()):
-        self._entries: dict[str, SpeciesRecord | list] = {}
+        self._entries: dict[str, SpeciesRecord | bytes] = {}
+        self._lookup: dict[str, list] = {}  # id -> lookup entry, for entries not yet parsed
         for rec in records:
             if rec.id in self._entries:
                 raise LibraryError(f"duplicate species id '{rec.id}'")
@@ -68,6 +71,7 @@ class Library:
         data = read_species_data(raw)
         lib = cls(version=data.version, sources=data.citations)
         lib._entries = data.rows  # type: ignore[assignment]
+        lib._lookup = data.lookup
         return lib
 
     def _materialise(self, species_id: str) -> SpeciesRecord:
@@ -75,8 +79,10 @@ class Library:
         if isinstance(entry, SpeciesRecord):
             return entry
         try:
-            rec = record_from_row(entry, self.sources)
-        except (KeyError, TypeError, ValueError, IndexError, LibraryError) as exc:
+            rec = record_from_row(parse_row(species_id, entry, self.sources), self.sources)
+        except LibraryError:
+            raise
+        except (KeyError, TypeError, ValueError, IndexError) as exc:
             raise LibraryError(f"species data file: record '{species_id}' is damaged: {exc!r}") from None
         self._entries[species_id] = rec
         return rec
@@ -124,6 +130,7 @@ class Library:
         lib = Library(version=self.version, sources=self.sources, overridden=overridden,
                       local_ids=self.local_ids | seen)
         lib._entries = merged
+        lib._lookup = self._lookup
         return lib
 
     # -- indexes -----------------------------------------------------------
@@ -134,9 +141,9 @@ class Library:
             if isinstance(e, SpeciesRecord):
                 name, aliases, phase = e.name, e.aliases, e.phase
                 fkey = _formula_key(e.composition, e.charge)
-            else:  # data-file rows carry the Hill formula already
-                name, aliases, phase, fkey = (e[COL_NAME], e[COL_ALIASES], e[COL_PHASE],
-                                              e[COL_FORMULA])
+            else:  # the data file's lookup table carries the Hill formula already
+                k = self._lookup[sid]
+                name, aliases, phase, fkey = k[LK_NAME], k[LK_ALIASES], k[LK_PHASE], k[LK_FORMULA]
             for text in dict.fromkeys((name, *aliases)):
                 names.setdefault(text.lower(), []).append((sid, text))
             formulas.setdefault((fkey, phase), []).append(sid)
@@ -251,7 +258,7 @@ class Library:
 
     def _phase_of(self, sid: str) -> str:
         e = self._entries[sid]
-        return e.phase if isinstance(e, SpeciesRecord) else e[COL_PHASE]
+        return e.phase if isinstance(e, SpeciesRecord) else self._lookup[sid][LK_PHASE]
 
     def _ranked(self, query: str, cutoff: float = SEARCH_CUTOFF) -> list[tuple]:
         """(rank, phase order, name length, id) of every record that answers ``query``,
@@ -270,8 +277,9 @@ class Library:
                 name, formula, aliases, cas, phase = e.name, e.formula, e.aliases, e.cas, e.phase
                 ekey = _formula_key(e.composition, e.charge) if fkey is not None else None
             else:
-                name, formula, aliases, cas, phase = (e[COL_NAME], e[COL_FORMULA], e[COL_ALIASES],
-                                                      e[COL_CAS], e[COL_PHASE])
+                k = self._lookup[sid]
+                name, formula, aliases, cas, phase = (k[LK_NAME], k[LK_FORMULA], k[LK_ALIASES],
+                                                      k[LK_CAS], k[LK_PHASE])
                 ekey = formula
             rank = search_rank(q, fkey == ekey if fkey is not None else False,
                                (sid, name, *aliases), formula, cas, cutoff)

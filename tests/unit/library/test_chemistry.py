@@ -18,7 +18,7 @@ import pytest
 
 from dossier.engine.thermo import ReactionThermo
 from dossier.errors import LibraryError, SpeciesError
-from dossier.library.datafile import read_species_data
+from dossier.library.datafile import check_species_data, read_species_data
 from dossier.library.lookup import Library
 from dossier.library.phasedata import PhaseData, VapourPressure
 from dossier.library.record import SpeciesRecord
@@ -167,7 +167,7 @@ def test_the_data_file_must_name_every_phase_source_it_uses():
     assert b'"source":"vp-perry"' in raw
     raw = raw.replace(b'"source":"vp-perry"', b'"source":"vp-nowhere"', 1)
     with pytest.raises(LibraryError, match="names unknown source 'vp-nowhere'"):
-        read_species_data(raw)
+        check_species_data(read_species_data(raw))
 
 
 def _data_path() -> str:

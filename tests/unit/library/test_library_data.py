@@ -14,6 +14,8 @@ import pytest
 
 from dossier.chem.formula import hill_formula, parse_formula
 from dossier.chem.phases import PHASES
+from dossier.errors import LibraryError
+from dossier.library.datafile import check_species_data, read_species_data
 from dossier.library.lookup import Library, default_library
 from paths import ROOT
 
@@ -53,7 +55,7 @@ def test_regenerating_gives_identical_bytes(tmp_path):
 
 def test_header_carries_versions_and_citations():
     data = json.loads(DATA.read_bytes())
-    assert data["format"] == 2
+    assert data["format"] == 3
     assert data["generated"] == "2026-12-01"  # fixed string, not the clock
     assert LIB.version.startswith(data["library_version"] + "+")
     thermo = {"nasa-gas", "nasa-condensed", "crc", "webbook", "shomate+crc", "shomate+webbook",
@@ -64,6 +66,39 @@ def test_header_carries_versions_and_citations():
     assert {"pc-crc-org", "pc-heos", "vp-wagner-mcgarry", "vp-perry"} <= phases
     assert "NASA Technical Memorandum 4513" in data["sources"]["nasa-gas"]["citation"]
     assert "CRC Handbook" in data["sources"]["crc"]["citation"]
+
+
+def test_every_line_parses_and_agrees_with_its_lookup_entry():
+    # the lazy reader checks a record when it is used; here every record is checked
+    data = read_species_data(DATA.read_bytes())
+    assert check_species_data(data) == len(data.lookup) == len(LIB)
+
+
+@pytest.mark.parametrize("change, message", [
+    (lambda raw: raw.replace(b'\n"records": [\n', b'"records": [', 1),
+     "species data file is not laid out as tools/build_library.py writes it (a header, "
+     "then one record per line)"),
+    (lambda raw: raw.replace(b'"format": 3,', b'"format": 2,', 1),
+     "species data file has format 2, this dossier reads format 3"),
+    (lambda raw: raw.replace(b'\n"records": [\n', b'\n"records": [\n["extra"],\n', 1),
+     "species data file: the lookup table has 2766 entries but there are 2767 records"),
+])
+def test_a_damaged_file_is_refused_at_load(change, message):
+    with pytest.raises(LibraryError) as err:
+        read_species_data(change(DATA.read_bytes()))
+    assert str(err.value) == message
+
+
+def test_a_record_out_of_place_is_refused_when_used():
+    raw = DATA.read_bytes()
+    head, records = raw.split(b'\n"records": [\n')
+    lines = records.removesuffix(b"\n]\n}\n").split(b",\n")
+    lines[0], lines[1] = lines[1], lines[0]  # two records swapped, lookup table unchanged
+    lib = Library.from_json_bytes(head + b'\n"records": [\n' + b",\n".join(lines) + b"\n]\n}\n")
+    first = next(iter(lib.ids))
+    with pytest.raises(LibraryError) as err:
+        lib.get(first)
+    assert str(err.value).startswith(f"species data file: the line of record '{first}' holds record ")
 
 
 def test_size_and_every_record_has_a_source():

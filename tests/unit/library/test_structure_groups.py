@@ -15,7 +15,8 @@ from dossier.assess.screening import known_groups, screen_species
 from dossier.engine import energetics
 from dossier.engine.settings import DEFAULT
 from dossier.errors import LibraryError
-from dossier.library.datafile import (COL_SMILES, StructureGroups, read_package_groups,
+from dossier.library.datafile import (COL_SMILES, StructureGroups, read_package_data,
+                                      read_package_groups, read_species_data,
                                       read_structure_groups)
 from dossier.library.lookup import Library, structure_groups
 
@@ -23,9 +24,8 @@ Chem = pytest.importorskip("rdkit.Chem")
 
 
 def _library_smiles() -> set[str]:
-    lib = Library.default()
-    return {row[COL_SMILES] for row in lib._entries.values()  # noqa: SLF001 (rows of the file)
-            if isinstance(row, list) and row[COL_SMILES]}
+    rows = read_species_data(read_package_data()).parsed_rows()
+    return {row[COL_SMILES] for row in rows if row[COL_SMILES]}
 
 
 def test_the_table_holds_every_library_structure_and_nothing_else():
