@@ -43,6 +43,7 @@ from dataclasses import dataclass
 from dossier.constants import R, ZERO_CELSIUS
 from dossier.engine.roots import brent
 from dossier.library.phasedata import PhaseData, VapourPressure
+from dossier.number_policy import UNIT_SPACE, fixed, plain, quantity, temperature
 
 _PHASE_WORDS = {"g": "gas", "l": "liquid", "s": "solid", "aq": "dissolved (aqueous) species"}
 
@@ -83,15 +84,28 @@ class StableRange:
 
 
 def _t(T: float) -> str:
-    return f"{T:.2f} K ({T - ZERO_CELSIUS:.2f} °C)"
+    """'353.2 K (80.1 °C)': the number policy's temperature."""
+    return temperature(T)
+
+
+def _k(T: float) -> str:
+    """'353.2 K': a temperature to 0.1 K (the number policy's default digits)."""
+    return f"{fixed(T, 1, group=False)}{UNIT_SPACE}K"
 
 
 def _span(lo: float, hi: float) -> str:
-    return (f"{lo:.2f}–{hi:.2f} K ({lo - ZERO_CELSIUS:.2f}–{hi - ZERO_CELSIUS:.2f} °C)")
+    c = [fixed(T - ZERO_CELSIUS, 1, group=False) for T in (lo, hi)]
+    return (f"{fixed(lo, 1, group=False)}–{_k(hi)} ({c[0]}–{c[1]}{UNIT_SPACE}°C)")
 
 
 def _bar(p: float) -> str:
-    return f"{p / 1e5:.4g} bar"
+    """A computed pressure in bar to four significant figures, never in e-notation."""
+    return quantity(p / 1e5, "bar", figures=4)
+
+
+def _given_bar(p: float) -> str:
+    """The pressure the case gives, echoed as given: '1 bar', '1.01325 bar'."""
+    return f"{plain(p / 1e5)}{UNIT_SPACE}bar"
 
 
 def vaporisation_enthalpy(vp: VapourPressure, T: float) -> float:
@@ -129,7 +143,7 @@ def boiling_point(pd: PhaseData, pressure: float, *, normal_pressure: float,
         if found is not None:
             T, extrapolated = found
             how = (f"vapour-pressure curve, extrapolated beyond its range "
-                   f"{vp.t_min:.2f}–{vp.t_max:.2f} K" if extrapolated
+                   f"{fixed(vp.t_min, 1, group=False)}–{_k(vp.t_max)}" if extrapolated
                    else "vapour-pressure curve")
             return Boundary(T, "boiling point", how, vp.source)
     if pd.t_boil is None or pd.sublimes:
@@ -150,7 +164,7 @@ def _sublimation(pd: PhaseData, pressure: float, normal_pressure: float) -> Boun
     if pressure == normal_pressure:
         return Boundary(pd.t_boil, "sublimation point", "at 1 atm", source)
     return Boundary(pd.t_boil, "sublimation point",
-                    f"at 1 atm; its shift to {_bar(pressure)} is not known", source)
+                    f"at 1 atm; its shift to {_given_bar(pressure)} is not known", source)
 
 
 def _liquid_exists(pd: PhaseData, pressure: float) -> bool:
@@ -206,7 +220,7 @@ def stable_range(phase: str, pd: PhaseData | None, pressure: float, *, normal_pr
         if not liquid:
             what = "the solvent" if phase == "aq" else "the substance"
             return StableRange(phase, pressure, None, None,
-                               never=f"{what} has no stable liquid at {_bar(pressure)}: it "
+                               never=f"{what} has no stable liquid at {_given_bar(pressure)}: it "
                                      f"sublimes at {_t(vapour.T_K)} ({vapour.basis})")
         found = StableRange(phase, pressure, _melting(pd), vapour)
     else:
@@ -223,7 +237,7 @@ def _gas_text(label: str, pd: PhaseData, sr: StableRange, lo: float, hi: float) 
                                 f"{_t(pd.t_melt)})" if below_melt else "")
     if b.what == "sublimation point":
         condensed = "the solid"
-    text = (f"{label}: as a pure substance at {_bar(sr.pressure_Pa)} it condenses below its "
+    text = (f"{label}: as a pure substance at {_given_bar(sr.pressure_Pa)} it condenses below its "
             f"{b.what} {_t(b.T_K)} ({b.basis}); from {_span(lo, hi)} of the window the gas "
             f"written {PHASE_WARNING_MARK} ({condensed} is), and the data describe a vapour "
             "that would condense")
@@ -233,7 +247,7 @@ def _gas_text(label: str, pd: PhaseData, sr: StableRange, lo: float, hi: float) 
         text += (f" (the heat of vaporisation there is about {dh / 1e3:.0f} kJ/mol, from the "
                  f"vapour-pressure curve); in a gas mixture it stays a vapour only while its "
                  f"partial pressure is below its vapour pressure, {_bar(vp.p(lo))} at "
-                 f"{lo:.2f} K")
+                 f"{_k(lo)}")
     return text + ": check that the phase written is the one present"
 
 
@@ -244,7 +258,7 @@ def _condensed_text(label: str, phase: str, pd: PhaseData, sr: StableRange,
     if phase == "aq":
         verb = "freezes" if side == "below" else "boils"
         return (f"{label}: the solvent, {pd.solvent or 'the solvent'}, {verb} at {_t(b.T_K)} "
-                f"at {_bar(sr.pressure_Pa)} ({b.basis}); from {_span(lo, hi)} of the window "
+                f"at {_given_bar(sr.pressure_Pa)} ({b.basis}); from {_span(lo, hi)} of the window "
                 "there is no liquid solvent at this pressure, so the dissolved species written "
                 f"{PHASE_WARNING_MARK} there: it cannot exist")
     if b.what == "form change":
@@ -256,8 +270,8 @@ def _condensed_text(label: str, phase: str, pd: PhaseData, sr: StableRange,
     if phase == "l" and side == "above":
         vp = pd.vapour_pressure
         more = (f"; the liquid stays liquid there only under at least its vapour pressure, "
-                f"{_bar(vp.p(hi))} at {hi:.2f} K" if vp is not None and vp.in_range(hi) else "")
-        return (f"{label}: at {_bar(sr.pressure_Pa)} it boils at {_t(b.T_K)} ({b.basis}); "
+                f"{_bar(vp.p(hi))} at {_k(hi)}" if vp is not None and vp.in_range(hi) else "")
+        return (f"{label}: at {_given_bar(sr.pressure_Pa)} it boils at {_t(b.T_K)} ({b.basis}); "
                 f"from {_span(lo, hi)} of the window the liquid written {PHASE_WARNING_MARK} "
                 f"(the vapour is){more}")
     if phase == "l":
@@ -275,7 +289,7 @@ def phase_warnings(label: str, phase: str, pd: PhaseData, sr: StableRange,
     for part in sr.outside(*window):
         lo, hi, side = part
         if side == "never":
-            out.append(f"{label}: at {_bar(sr.pressure_Pa)} {sr.never}; the "
+            out.append(f"{label}: at {_given_bar(sr.pressure_Pa)} {sr.never}; the "
                        f"{_PHASE_WORDS[phase]} written {PHASE_WARNING_MARK} anywhere in "
                        f"the window {_span(lo, hi)}")
         elif phase == "g":
@@ -290,12 +304,12 @@ def describe_range(sr: StableRange | None, sources: bool = True) -> str:
     if sr is None:
         return "no phase boundary known"
     if sr.never:
-        return f"none at {_bar(sr.pressure_Pa)}: {sr.never}"
+        return f"none at {_given_bar(sr.pressure_Pa)}: {sr.never}"
     parts = []
     for word, b in (("above", sr.lower), ("below", sr.upper)):
         if b is not None:
             source = f"; {b.source}" if b.source and sources else ""
-            parts.append(f"{word} {_t(b.T_K)}, its {b.what} at {_bar(sr.pressure_Pa)} "
+            parts.append(f"{word} {_t(b.T_K)}, its {b.what} at {_given_bar(sr.pressure_Pa)} "
                          f"({b.basis}{source})")
     return " and ".join(parts)
 

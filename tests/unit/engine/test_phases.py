@@ -167,7 +167,8 @@ def test_vapour_below_its_boiling_point_names_the_range_in_k_and_celsius():
     # 1,2-dichloroethane boils at 83.5 °C at 1 atm (CRC Handbook, physical constants
     # of organic compounds; from memory), so a little lower at 1 bar
     assert 356.0 < sr.lower.T_K < 356.65
-    assert "from 313.15–338.15 K (40.00–65.00 °C) of the window the gas written is not the " \
+    # temperatures to 0.1 K with °C beside them (the number policy)
+    assert "from 313.2–338.2\u00a0K (40.0–65.0\u00a0°C) of the window the gas written is not the " \
            "stable phase (the liquid is)" in text
     assert "heat of vaporisation there is about 35 kJ/mol" in text
     assert "vapour pressure, 0.2" in text  # about 0.21 bar at 40 °C
@@ -176,19 +177,20 @@ def test_vapour_below_its_boiling_point_names_the_range_in_k_and_celsius():
 def test_liquid_above_its_boiling_point():
     sr = _range("l", WATER)
     (text,) = phase_warnings("H2O(l)", "l", WATER, sr, (298.15, 400.0))
-    assert text.startswith("H2O(l): at 1 bar it boils at 372.7")
+    # Tsat(1 bar) = 372.756 K (IAPWS-95, chemicals.iapws; the table above), to 0.1 K
+    assert text.startswith("H2O(l): at 1\u00a0bar it boils at 372.8\u00a0K (99.6\u00a0°C)")
     assert "the liquid written is not the stable phase (the vapour is)" in text
     # IAPWS-95 (chemicals.iapws): p_sat(400 K) = 2.456 bar
-    assert "2.456 bar at 400.00 K" in text
+    assert "2.456\u00a0bar at 400.0\u00a0K" in text
 
 
 def test_liquid_below_its_melting_point_and_solid_past_it():
     liquid = _range("l", WATER)
     (cold,) = phase_warnings("H2O(l)", "l", WATER, liquid, (263.15, 300.0))
-    assert "it melts at 273.15 K (0.00 °C)" in cold and "stable phase (the solid is)" in cold
+    assert "it melts at 273.2\u00a0K (0.0\u00a0°C)" in cold and "stable phase (the solid is)" in cold
     solid = _range("s", WATER)
     (warm,) = phase_warnings("H2O(s)", "s", WATER, solid, (250.0, 280.0))
-    assert "from 273.15–280.00 K (0.00–6.85 °C) of the window the solid written is not the " \
+    assert "from 273.2–280.0\u00a0K (0.0–6.9\u00a0°C) of the window the solid written is not the " \
            "stable phase (the liquid is)" in warm
 
 
@@ -203,13 +205,13 @@ def test_every_phase_sentence_carries_the_mark_rules_can_look_for():
              *phase_warnings("x", "g", WATER, _range("g", WATER), (300.0, 310.0))]
     # one each, and two for the aqueous species (frozen below, boiled away above)
     assert len(texts) == 5 and all(PHASE_WARNING_MARK in t for t in texts)
-    assert "the solvent, water, freezes at 273.15 K" in texts[1]
-    assert "the solvent, water, boils at 372.7" in texts[2]
+    assert "the solvent, water, freezes at 273.2\u00a0K (0.0\u00a0°C)" in texts[1]
+    assert "the solvent, water, boils at 372.8\u00a0K" in texts[2]
 
 
 def test_inside_the_stable_range_there_is_nothing_to_say():
     assert phase_warnings("H2O(l)", "l", WATER, _range("l", WATER), (280.0, 350.0)) == ()
-    assert "above 273.15 K" in describe_range(_range("l", WATER))
+    assert "above 273.2\u00a0K (0.0\u00a0°C)" in describe_range(_range("l", WATER))
     assert describe_range(None) == "no phase boundary known"
 
 
@@ -235,7 +237,7 @@ def _warnings(reaction: str, lo: str, hi: str, p: str = "1 bar") -> tuple[str, .
 
 def test_dichloroethane_vapour_at_40_to_65_celsius_is_warned():
     ws = _warnings("C2H4(g) + Cl2(g) -> 1,2-dichloroethane(g)", "40 degC", "65 degC")
-    assert any(w.startswith("1,2-dichloroethane(g): as a pure substance at 1 bar it condenses")
+    assert any(w.startswith("1,2-dichloroethane(g): as a pure substance at 1\u00a0bar it condenses")
                for w in ws)
 
 
@@ -243,13 +245,13 @@ def test_tin_tetrachloride_vapour_is_warned():
     ws = _warnings("Sn(s) + 2 Cl2(g) -> SnCl4(g)", "25 degC", "75 degC")
     # tin(IV) chloride boils at 114.15 °C (CRC Handbook, physical constants of
     # inorganic compounds, as carried by chemicals)
-    assert any(w.startswith("SnCl4(g): as a pure substance at 1 bar it condenses below its "
+    assert any(w.startswith("SnCl4(g): as a pure substance at 1\u00a0bar it condenses below its "
                             "boiling point 386.8") for w in ws)
 
 
 def test_liquid_water_at_400_k_is_warned_at_1_bar_and_not_at_5_bar():
     at_1 = _warnings("H2(g) + 0.5 O2(g) -> H2O(l)", "300 K", "400 K")
-    assert any(w.startswith("H2O(l): at 1 bar it boils at 372.7") for w in at_1)
+    assert any(w.startswith("H2O(l): at 1\u00a0bar it boils at 372.8\u00a0K") for w in at_1)
     at_5 = _warnings("H2(g) + 0.5 O2(g) -> H2O(l)", "300 K", "400 K", "5 bar")
     assert not any(w.startswith("H2O(l)") for w in at_5)
 
@@ -260,7 +262,8 @@ def test_the_species_use_carries_the_stable_range_at_the_case_pressure():
     use = next(u for u in evaluate(case, LIB).assessment.species if u.key == "H2O(l)")
     lo, hi = use.stable_phase_K
     assert lo == 273.15 and hi == pytest.approx(424.98, abs=0.05)
-    assert "below 424.9" in use.stable_phase and "at 5 bar" in use.stable_phase
+    # 424.98 K (IAPWS-95, above) to 0.1 K
+    assert "below 425.0\u00a0K" in use.stable_phase and "at 5\u00a0bar" in use.stable_phase
     h2 = next(u for u in evaluate(case, LIB).assessment.species if u.key == "H2(g)")
     # hydrogen boils at 20.3 K at 1 atm and has its critical point at 33.2 K (CRC
     # Handbook; from memory): at 5 bar it boils in between, and is a gas everywhere here
