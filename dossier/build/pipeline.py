@@ -50,7 +50,7 @@ from dossier.build.layout import SiteLayout, site_layout
 from dossier.build.kept import SiteFiles, keep_failed, keep_packets
 from dossier.build.outputs import base_files, light_view, meeting_views, site_pages
 from dossier.build.pickles import loads
-from dossier.build.runner import Call, Progress, Runner
+from dossier.build.runner import Call, Progress, Runner, fewer_collections
 from dossier.build.units import (UnitResult, cached_unit, store, unit_assess, unit_case,
                                  unit_meeting, unit_species)
 from dossier.build.writer import (SiteLock, check_target, is_within, read_manifest,
@@ -467,7 +467,8 @@ def build_site(cases_dir: Path, out_dir: Path, strict: bool = False,
     """
     b = start_build(Path(cases_dir), Path(out_dir), strict, meeting, jobs, packets, cache_dir,
                     progress)
-    with SiteLock(b.target) as lock:  # one build at a time into this folder, start to end
+    # one build at a time into this folder, start to end; the collector tuned for a build
+    with SiteLock(b.target) as lock, fewer_collections():
         remove_stale(b.target)  # whatever this build then finds (nothing changed too)
         return locked_build(b, lock)
 

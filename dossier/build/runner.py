@@ -13,8 +13,10 @@ follows.  A run of one job, or of one unit, starts no process at all.
 """
 from __future__ import annotations
 
+import contextlib
 import ctypes
 import ctypes.util
+import gc
 import multiprocessing
 import os
 import select
@@ -33,9 +35,37 @@ WORKER_MODULES = ("dossier.build.units", "dossier.assess.evaluate", "dossier.ren
 
 _PR_SET_PDEATHSIG = 1  # from <linux/prctl.h>
 
+#: The cyclic garbage collector's youngest-generation threshold while a build runs
+#: (CPython's default: 700 container objects).  A build allocates millions of
+#: short-lived objects (figures, layout boxes) on top of a large, long-lived heap
+#: (matplotlib, weasyprint, sympy and numpy loaded); at the default the collector
+#: ran about eight full collections over that heap in a one-case build with its
+#: packets, 0.7-1.0 s of a 6 s build.  At 30,000 (and a collection of the
+#: youngest generation after each unit, :func:`run_unit`) it ran none and took
+#: 0.35-0.4 s.  The price is memory: cyclic garbage waits longer, so a cold
+#: 10-case build with packets and 2 workers peaked at about 834 MiB (process
+#: tree) against 725 MiB at the default (922 MiB without the collection after
+#: each unit); garbage without cycles is freed at once whatever the threshold.
+GC_THRESHOLD0 = 30_000
+
+
+@contextlib.contextmanager
+def fewer_collections():
+    """Run the block with the collector's first threshold at :data:`GC_THRESHOLD0`
+    (restored afterwards, so `dossier serve` between builds is as before)."""
+    before = gc.get_threshold()
+    gc.set_threshold(max(GC_THRESHOLD0, before[0]), *before[1:])
+    try:
+        yield
+    finally:
+        gc.set_threshold(*before)
+
 
 def bind_to_parent(build_pid: int) -> None:
-    """Pool initializer: die with the parent; exit now if the build is already gone."""
+    """Pool initializer: die with the parent; exit now if the build is already gone.
+    A worker lives only for the build, so it keeps the build's collector setting
+    (:data:`GC_THRESHOLD0`) to the end."""
+    gc.set_threshold(max(GC_THRESHOLD0, gc.get_threshold()[0]), *gc.get_threshold()[1:])
     try:
         libc = ctypes.CDLL(ctypes.util.find_library("c") or None, use_errno=True)
         libc.prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
@@ -67,6 +97,17 @@ def process_exists(pid: int) -> bool:
     except PermissionError:  # exists, owned by someone else
         return True
     return True
+
+
+def run_unit(fn: Callable, *args):
+    """Run one unit, then collect the youngest generation: most of the cyclic
+    garbage the unit left (its figures and laid-out documents) is freed before the
+    next unit instead of waiting, in the older generations, for a full collection
+    (see :data:`GC_THRESHOLD0`)."""
+    try:
+        return fn(*args)
+    finally:
+        gc.collect(0)
 
 
 class Runner:
@@ -105,11 +146,11 @@ class Runner:
         results: list = [None] * total
         if self.jobs == 1 or total == 1:
             for i, (fn, args) in enumerate(calls):
-                results[i] = fn(*args)
+                results[i] = run_unit(fn, *args)
                 self.tell(phase, i + 1, total)
             return results
         pool = self.executor()
-        futures = {pool.submit(fn, *args): i for i, (fn, args) in enumerate(calls)}
+        futures = {pool.submit(run_unit, fn, *args): i for i, (fn, args) in enumerate(calls)}
         try:
             for done, fut in enumerate(as_completed(futures), 1):
                 results[futures[fut]] = fut.result()
@@ -126,5 +167,5 @@ class Runner:
             self.pool = None
 
 
-__all__ = ["Call", "Progress", "Runner", "WORKER_MODULES", "bind_to_parent", "process_exists",
-           "watch_build"]
+__all__ = ["Call", "GC_THRESHOLD0", "Progress", "Runner", "WORKER_MODULES", "bind_to_parent",
+           "fewer_collections", "process_exists", "run_unit", "watch_build"]
