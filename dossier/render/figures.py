@@ -11,15 +11,15 @@ matplotlib is imported only inside functions, and only when a figure is drawn.
 from __future__ import annotations
 
 import functools
-import io
+import html
 import math
 from typing import TYPE_CHECKING, Sequence
 
 import numpy as np
 
 from dossier.constants import T_REF, ZERO_CELSIUS
-from dossier.render.figure_style import (BLUE, GREY, INK, PALE, SVG_METADATA, Figure, cell,
-                                         celsius_axis, new_figure, svg_text, with_style)
+from dossier.render.figure_style import (BLUE, GREY, INK, PALE, Figure, cell, celsius_axis,
+                                         new_figure, svg_text, with_style)
 from dossier.temperature import kelvin_celsius
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -399,28 +399,60 @@ def _species_figure(held: _Record) -> Figure:
 
 @functools.lru_cache(maxsize=256)
 def formula_svg(latex: str, fontsize: float = 10.0) -> str:
-    """One line of LaTeX mathematics as SVG (matplotlib mathtext), sized to the formula.
+    """One line of LaTeX mathematics as SVG, sized to the formula.
 
-    Remembered per process (the same formula is drawn once: the general forms
-    serve every packet of a build, and a build asks for them more than once)."""
+    matplotlib's mathtext lays the formula out once; its glyphs are written as
+    text (one ``<tspan>`` per glyph at its place, the form matplotlib's own SVG
+    writer gives mathematics when text stays text) and its fraction bars as
+    rectangles.  (Drawn through a matplotlib figure instead, each formula was
+    laid out three times: to size the figure, to place the text, to draw it.)
+    Remembered per process: the general forms serve every packet of a build."""
 
     def draw():
-        from matplotlib.figure import Figure as MplFigure
         from matplotlib.font_manager import FontProperties
         from matplotlib.mathtext import MathTextParser
 
         text = "$" + latex.replace(r"\frac", r"\dfrac") + "$"  # fractions in display style
-        prop = FontProperties(size=fontsize)
-        width, height, depth, *_ = MathTextParser("path").parse(text, dpi=72, prop=prop)
-        pad = 2.0
-        fig = MplFigure(figsize=((width + 2 * pad) / 72, (height + 2 * pad) / 72))
-        fig.text(pad / (width + 2 * pad), (depth + pad) / (height + 2 * pad), text,
-                 fontproperties=prop, color=INK)
-        buf = io.StringIO()
-        fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=True)
-        return buf.getvalue()
+        parsed = MathTextParser("path").parse(text, 72, FontProperties(size=fontsize))
+        return formula_svg_text(parsed, pad=2.0)
 
     return with_style(draw)
+
+
+def formula_svg_text(parsed, pad: float) -> str:
+    """The SVG of a mathtext ``VectorParse`` (sizes in points), ``pad`` points around it."""
+    from matplotlib.font_manager import ttfFontProperty
+
+    width, height, depth, glyphs, rects = parsed
+    w, h = width + 2 * pad, height + 2 * pad
+    spans: dict[str, list[tuple[float, float, int]]] = {}
+    for font, size, code, *_index, x, y in glyphs:
+        f = ttfFontProperty(font)
+        style = [f"font-style: {f.style}"] if f.style != "normal" else []
+        style += [f"font-variant: {f.variant}"] if f.variant != "normal" else []
+        style += [f"font-weight: {f.weight}"] if f.weight != 400 else []
+        style += [f"font-size: {_svg_num(size)}px", f"font-family: {f.name!r}"]
+        style += [f"font-stretch: {f.stretch}"] if f.stretch != "normal" else []
+        spans.setdefault("; ".join(style + [f"fill: {INK}"]), []).append(
+            (x, -y, 0xA0 if code == 32 else code))
+    out = ['<?xml version="1.0" encoding="utf-8" standalone="no"?>',
+           f'<svg xmlns="http://www.w3.org/2000/svg" width="{_svg_num(w)}pt" '
+           f'height="{_svg_num(h)}pt" viewBox="0 0 {_svg_num(w)} {_svg_num(h)}" version="1.1">',
+           f' <g style="fill: {INK}" transform="translate({_svg_num(pad)} '
+           f'{_svg_num(h - depth - pad)})">', "  <text>"]
+    for style, chars in spans.items():
+        out += [f'   <tspan x="{_svg_num(x)}" y="{_svg_num(y)}" style="{style}">'
+                f"{html.escape(chr(c), quote=False)}</tspan>" for x, y, c in sorted(chars)]
+    out.append("  </text>")
+    out += [f'  <rect x="{_svg_num(x)}" y="{_svg_num(-y - 1)}" width="{_svg_num(rw)}" '
+            f'height="{_svg_num(rh)}"/>' for x, y, rw, rh in rects]
+    out += [" </g>", "</svg>", ""]
+    return "\n".join(out)
+
+
+def _svg_num(x: float) -> str:
+    """A coordinate as matplotlib's SVG writer gives it: fixed point, no trailing zeros."""
+    return f"{x:f}".rstrip("0").rstrip(".")
 
 
 #: Shades of the criticality classes 1..5 in the envelope, pale to dark (each class is

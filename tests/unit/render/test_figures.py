@@ -142,3 +142,95 @@ def test_matplotlib_is_only_imported_by_the_figures_module():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout.split()
     assert out == ["False", "False"]
+
+
+# --------------------------------------------------------------------------
+# Cheaper drawing, same output (checked against matplotlib's own SVG writer)
+
+def _stock_svg(draw_on) -> str:
+    """The SVG matplotlib's own canvas writes for a figure ``draw_on(fig)`` fills."""
+    import io
+
+    from matplotlib.backends.backend_svg import FigureCanvasSVG
+    from matplotlib.figure import Figure as MplFigure
+
+    from dossier.render.figure_style import SVG_METADATA, with_style
+
+    def draw():
+        fig = MplFigure(figsize=(4.0, 2.0))
+        FigureCanvasSVG(fig)
+        draw_on(fig)
+        buf = io.StringIO()
+        fig.savefig(buf, format="svg", metadata=SVG_METADATA, transparent=False,
+                    facecolor="white")
+        return buf.getvalue()
+
+    return with_style(draw)
+
+
+def _ours_svg(draw_on) -> str:
+    from dossier.render.figure_style import mpl_figure, svg_text, with_style
+
+    def draw():
+        fig = mpl_figure(4.0, 2.0)
+        draw_on(fig)
+        return svg_text(fig)
+
+    return with_style(draw)
+
+
+def test_shared_text_canvas_writes_what_matplotlib_writes():
+    # labels with mathematics are parsed once per process by the shared converter;
+    # the file must be the one matplotlib's own canvas writes, twice in a row too
+    def draw_on(fig):
+        ax = fig.add_subplot()
+        ax.plot([300.0, 400.0, 500.0], [1.0, -2.0, 3.0], label=r"$\Delta_\mathrm{r}G^\circ$")
+        ax.set_ylabel(r"$C_p^\circ$ / J mol$^{-1}$ K$^{-1}$")
+        ax.set_xlabel("T / K")
+        ax.legend()
+
+    stock = _stock_svg(draw_on)
+    assert "<tspan" in stock  # the labels really went through mathtext
+    assert _ours_svg(draw_on) == stock
+    assert _ours_svg(draw_on) == stock
+
+
+@pytest.mark.parametrize("latex", [
+    r"\ln K = -\frac{\Delta_{\text{r}} G^{\circ}(T)}{R T}",
+    r"\Delta_{\text{r}} S^{\circ}(T) = \Delta_{\text{r}} S^{\circ}(T_{a}) + \int_{T_{a}}^{T} "
+    r"\frac{\Delta_{\text{r}} C_{p}^{\circ}(\tau)}{\tau}\, d\tau",
+    r"a < b \quad \mathrm{and} \quad c > d",
+])
+def test_formula_svg_places_the_glyphs_matplotlib_places(latex):
+    # formula_svg writes mathtext's layout itself (one parse); the glyphs, their
+    # places and styles, and the fraction bars must be those of matplotlib's writer
+    import xml.etree.ElementTree as ET
+
+    text = "$" + latex.replace(r"\frac", r"\dfrac") + "$"
+
+    def parts(svg: str):
+        root = ET.fromstring(svg.encode("utf-8"))
+        spans = sorted((s.get("x"), s.get("y"), s.get("style"), s.text)
+                       for s in root.iter(f"{SVG_NS}tspan"))
+        rects = sorted((r.get("x"), r.get("y"), r.get("width"), r.get("height"))
+                       for r in root.iter(f"{SVG_NS}rect"))
+        return spans, rects, root.get("viewBox")
+
+    from dossier.render.figure_style import INK
+
+    def draw_on(fig):
+        from matplotlib.font_manager import FontProperties
+        from matplotlib.mathtext import MathTextParser
+
+        prop = FontProperties(size=10.0)
+        width, height, depth, *_ = MathTextParser("path").parse(text, 72, prop)
+        fig.set_size_inches((width + 4) / 72, (height + 4) / 72)
+        fig.text(2 / (width + 4), (depth + 2) / (height + 4), text, fontproperties=prop,
+                 color=INK)
+
+    ours = figures.formula_svg(latex)
+    theirs = _stock_svg(draw_on)
+    assert parts(ours)[0], "no glyphs written"
+    assert parts(ours) == parts(theirs)
+    _svg_root(ours)  # parses as XML: a "<" in the formula is escaped
+    assert ("&lt;" in ours) == ("<" in latex)
