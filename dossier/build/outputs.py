@@ -189,10 +189,19 @@ def meeting_views(views: Sequence[CaseView], meeting: str | None
     return meetings, problems
 
 
+def cover_pages_guess(cases: int) -> int:
+    """The pages a meeting's cover and agenda will likely take, to number the agenda
+    before it is laid out: the first page holds the cover and about three agenda
+    rows, each further page about seven (agendas of 1 to 20 copies of the demo case
+    nitro-hydrogenation).  A wrong guess costs one more lay-out, never a wrong number: the cover
+    is laid out again with the page count it really took."""
+    return 1 + -(-max(0, cases - 3) // 7)
+
+
 def meeting_cover(m: MeetingView, counts: Sequence[int], files: Mapping[str, bytes]) -> Printed:
     """Lay out the meeting's cover, agenda and sign-off sheet, with the page of the
     meeting packet where each case starts (``counts``: the pages of each case packet)."""
-    cover_pages = 2
+    cover_pages = cover_pages_guess(len(counts))
     for _ in range(3):  # the agenda's own length decides where the cases start
         starts, page = [], cover_pages + 1
         for n in counts:
@@ -316,6 +325,6 @@ def render_site(assessed: Sequence[AssessedCase], failures: Sequence[CaseFailure
 
 
 __all__ = ["CaseOutput", "RenderedSite", "attachment", "base_files", "case_output",
-           "case_pages", "case_view", "derivation", "failed_rows", "light_view",
-           "meeting_pdf", "meeting_views", "render_failure", "render_site", "site_pages",
+           "case_pages", "case_view", "cover_pages_guess", "derivation", "failed_rows",
+           "light_view", "meeting_pdf", "meeting_views", "render_failure", "render_site", "site_pages",
            "species_files", "species_pages", "view_json"]

@@ -270,3 +270,29 @@ def test_closed_forms_print_as_text_and_fall_back_to_svg():
     assert assets[g.assets[0]].startswith(r"\Delta_{\text{r}} G^{\circ}(T) = \sqrt{T}")
     assert cp.assets[0] not in assets  # printed as text, no image needed
 
+
+
+@pytest.mark.parametrize("n", [1, 5])
+def test_meeting_agenda_numbers_the_cases_after_its_own_pages_whatever_the_guess(
+        n, monkeypatch):
+    # the agenda is numbered before it is laid out, from a guess of its own length
+    # (outputs.cover_pages_guess); a wrong guess costs a second lay-out, never a wrong
+    # "starts on": the same pages come out whether the guess was right or not
+    from dossier.build import outputs
+    from dossier.render.views import MeetingView
+
+    a = assess_file(harness.HERE / "packet" / "kiln.md", Library.default())
+    v = outputs.light_view(a, "kiln", [])
+    m = MeetingView(date="2026-11-24", slug="meeting-2026-11-24", cases=(v,) * n)
+    files = outputs.base_files(True)
+
+    def agenda(guess: int) -> tuple[int, str]:
+        monkeypatch.setattr(outputs, "cover_pages_guess", lambda cases: guess)
+        cover = outputs.meeting_cover(m, (7,) * n, files)
+        pdf = pypdf.PdfReader(io.BytesIO(packets.write_pdf([cover], variant=None)))
+        return cover.page_count, "\n".join(p.extract_text() for p in pdf.pages)
+
+    pages, text = agenda(1)
+    assert (pages, text) == agenda(pages + 1)  # a guess too long gives the same
+    starts = [int(s) for s in re.findall(r"^page (\d+)$", text, re.M)]  # "starts on" cells
+    assert starts == [pages + 1 + 7 * i for i in range(n)]
