@@ -151,6 +151,9 @@ def env_for(pkg_root: Path) -> dict:
     env = dict(os.environ)
     env["PYTHONPATH"] = str(pkg_root) + os.pathsep + env.get("PYTHONPATH", "")
     env.pop("SOURCE_DATE_EPOCH", None)
+    # the warm-up compiles the copy's bytecode, as an installed package has it; a shell
+    # that sets this would make every measured process compile the package afresh
+    env.pop("PYTHONDONTWRITEBYTECODE", None)
     return env
 
 

@@ -12,6 +12,7 @@ Markdown package it uses.)
 """
 from __future__ import annotations
 
+import functools
 import re
 from typing import Mapping
 
@@ -112,8 +113,10 @@ def markdown_html(text: str, *, pages: Mapping[str, str] | None = None,
     return Markup(drop_empty_headings(clean))
 
 
+@functools.lru_cache(maxsize=64)
 def narrative_html(markdown_text: str) -> Markup:
-    """A case's narrative: headings moved down two levels, under the page's own."""
+    """A case's narrative: headings moved down two levels, under the page's own
+    (remembered: the case's page and its packet show the same narrative)."""
     return markdown_html(markdown_text, heading_shift=2)
 
 
