@@ -166,13 +166,18 @@ def derive(thermo: ReactionThermo, t_low: float, t_high: float,
 
 def _numeric(T, bounds: Sequence[tuple[float, float]], exprs: Sequence
              ) -> Callable[[np.ndarray], np.ndarray]:
-    """The per-segment closed forms as one numpy function of T (for checking them)."""
+    """The per-segment closed forms as one numpy function of T (for checking them).
+
+    The generated code names only ``numpy``: it gets that one name (with sympy's
+    numpy printer), not ``modules="numpy"``, whose ``from numpy import *`` loads
+    numpy.f2py and numpy.testing (70-90 ms of a build's first derivation)."""
     import sympy as sp
+    from sympy.printing.numpy import NumPyPrinter
 
     branches = []
     for i, (_a, b) in enumerate(bounds):
         cond = T <= b if i < len(bounds) - 1 else sp.true
         branches.append((exprs[i], cond))
-    f = sp.lambdify(T, sp.Piecewise(*branches), modules="numpy")
+    f = sp.lambdify(T, sp.Piecewise(*branches), modules=[{"numpy": np}], printer=NumPyPrinter)
     return lambda x: np.asarray(f(np.asarray(x, dtype=float)), dtype=float) * np.ones_like(
         np.asarray(x, dtype=float))
