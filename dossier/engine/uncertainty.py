@@ -135,7 +135,11 @@ def crossover_draws(dH: Callable[[np.ndarray], np.ndarray],
             h = dH(T) + shifts.dh + shifts.dcp * (T - T_REF)
             s = dS(T) + shifts.ds + shifts.dcp * np.log(T / T_REF)
             step = (h - T * s) / (-s)
-            T = np.clip(T - step, lo, hi)
+            before, T = T, np.clip(T - step, lo, hi)
+            # every draw has stopped moving (converged, or held at an end of [lo, hi]);
+            # a draw whose step is NaN (ΔrS° = 0) stays NaN and is judged below
+            if not np.any(np.abs(T - before) > 1e-12 * np.abs(before)):
+                break
         h = dH(T) + shifts.dh + shifts.dcp * (T - T_REF)
         s = dS(T) + shifts.ds + shifts.dcp * np.log(T / T_REF)
         g = h - T * s

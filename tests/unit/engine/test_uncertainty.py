@@ -125,3 +125,35 @@ def test_percentiles_are_numpys_to_the_last_bit(values, percents):
 def test_percentiles_of_a_hand_example():
     # hand calculation: 0..10, the 25th percentile sits at index 2.5 -> 2.5
     assert percentiles(np.arange(11.0), (25.0, 2.5, 97.5)).tolist() == [2.5, 0.25, 9.75]
+
+
+def test_crossover_draws_are_the_roots_of_each_draw():
+    # ΔrH° = 50 kJ/mol and ΔrS° = 125 J/(mol K) constant: ΔrG° = 0 at 400 K.  Each draw's
+    # crossover with constant shifts is (ΔH + δh) / (ΔS + δs) (hand calculation); with a
+    # ΔCp shift, the root of that draw's ΔG(T) found by bisection to 1e-9 K.
+    from dossier.engine.roots import brent
+    from dossier.engine.uncertainty import ReactionShifts, crossover_draws
+
+    dh = np.array([0.0, 1e3, -2e3, 0.0, 500.0])
+    ds = np.array([0.0, 1.0, -3.0, 0.0, 2.0])
+    dcp = np.array([0.0, 0.0, 0.0, 4.0, -6.0])
+    shifts = ReactionShifts(dh, ds, dcp)
+    got = crossover_draws(lambda T: np.full_like(T, 50e3), lambda T: np.full_like(T, 125.0),
+                          400.0, shifts, 300.0, 500.0)
+    assert got[:3] == pytest.approx((50e3 + dh[:3]) / (125.0 + ds[:3]), rel=1e-12)
+    for i in (3, 4):
+        def g(T, i=i):
+            h = 50e3 + dh[i] + dcp[i] * (T - 298.15)
+            s = 125.0 + ds[i] + dcp[i] * math.log(T / 298.15)
+            return h - T * s
+        assert got[i] == pytest.approx(brent(g, 300.0, 500.0, xtol=1e-9), abs=1e-6)
+
+
+def test_a_draw_without_a_crossover_in_the_range_is_nan():
+    from dossier.engine.uncertainty import ReactionShifts, crossover_draws
+
+    shifts = ReactionShifts(np.array([0.0, 30e3]), np.zeros(2), np.zeros(2))
+    got = crossover_draws(lambda T: np.full_like(T, 50e3), lambda T: np.full_like(T, 125.0),
+                          400.0, shifts, 300.0, 500.0)
+    # the second draw's root, 80 kJ/mol / 125 J/(mol K) = 640 K, lies outside 300-500 K
+    assert got[0] == pytest.approx(400.0, rel=1e-12) and math.isnan(got[1])
