@@ -50,7 +50,7 @@ from dossier.build.layout import SiteLayout, site_layout
 from dossier.build.kept import SiteFiles, keep_failed, keep_packets
 from dossier.build.outputs import base_files, light_view, meeting_views, site_pages
 from dossier.build.pickles import loads
-from dossier.build.runner import Call, Progress, Runner, fewer_collections
+from dossier.build.runner import Call, Pending, Progress, Runner, fewer_collections
 from dossier.build.units import (UnitResult, cached_unit, store, unit_assess, unit_case,
                                  unit_meeting, unit_species)
 from dossier.build.writer import (SiteLock, check_target, is_within, read_manifest,
@@ -317,9 +317,11 @@ def plan_case_units(b: Build, layout: SiteLayout, assessed: Sequence[Assessed]) 
     return units
 
 
-def render_cases(b: Build, units: Sequence[CaseUnit]
-                 ) -> tuple[list[tuple[CaseUnit, UnitResult]], list[CaseFailure]]:
-    """Each case's figures, pages and packet; a case that fails to render is left out."""
+def render_cases(b: Build, units: Sequence[CaseUnit], then: Sequence[Call] = ()
+                 ) -> tuple[list[tuple[CaseUnit, UnitResult]], list[CaseFailure], Pending]:
+    """Each case's figures, pages and packet; a case that fails to render is left out.
+    ``then`` (the species pages) is handed to the workers behind the cases, to fill
+    those that finish early; it is returned pending."""
     results: list[UnitResult | None] = [cached_unit(b.cache, "case", u.key) for u in units]
     todo = [i for i, r in enumerate(results) if r is None]
     calls: list[Call] = [
@@ -327,32 +329,39 @@ def render_cases(b: Build, units: Sequence[CaseUnit]
                      b.packets, units[i].key, units[i].view_key, b.root,
                      b.settings.code))
         for i in todo]
-    fresh = b.runner.run("cases", calls)
+    pending = b.runner.submit("cases", calls, ahead=False)
+    after = b.runner.submit("species", list(then))
+    fresh = b.runner.collect(pending)
     for i, r in zip(todo, fresh):
         results[i] = r
     b.count("case", made=len(todo), taken=len(units) - len(todo))
     b.count("view", made=sum(r.views_made for r in fresh),
             taken=sum(r.views_reused for r in fresh))
     ok = [(u, r) for u, r in zip(units, results) if r.failure is None]
-    return ok, [r.failure for r in results if r.failure is not None]
+    return ok, [r.failure for r in results if r.failure is not None], after
 
 
-def plan_species(b: Build, layout: SiteLayout, published: Sequence[AssessedCase]
-                 ) -> tuple[list[Call], list[UnitResult]]:
-    """The species pages the published cases link to: units to run, and those cached."""
+def plan_species(b: Build, layout: SiteLayout, published: Sequence[AssessedCase],
+                 made: Mapping[str, UnitResult] | None = None
+                 ) -> tuple[dict[str, Call], list[UnitResult], list[UnitResult]]:
+    """The species pages the published cases link to: units to run (by unit key), those
+    cached, and those in ``made`` (made by this build already, by unit key)."""
     used_by = layout.used_by(published)
-    calls, cached = [], []
+    calls, cached, done = {}, [], []
     for sk, (_text, rec) in layout.species.items():
         if sk not in used_by:
             continue
         slug, local_to = layout.species_slug[sk], layout.local_to(sk)
         k = species_unit_key(rec, sk[0] == "local", slug, local_to, used_by[sk], b.settings)
+        if made and k in made:
+            done.append(made[k])
+            continue
         u = cached_unit(b.cache, "species", k)
         if u is None:
-            calls.append((unit_species, (rec, slug, local_to, used_by[sk], k, b.root)))
+            calls[k] = (unit_species, (rec, slug, local_to, used_by[sk], k, b.root))
         else:
             cached.append(u)
-    return calls, cached
+    return calls, cached, done
 
 
 def plan_meetings(b: Build, meetings: Sequence[MeetingView], ok: Sequence[CaseUnit]
@@ -373,11 +382,17 @@ def plan_meetings(b: Build, meetings: Sequence[MeetingView], ok: Sequence[CaseUn
     return calls, cached
 
 
-def render_shared(b: Build, layout: SiteLayout, ok: Sequence[CaseUnit], site: SiteFiles
-                  ) -> tuple[list[CaseView], tuple[MeetingView, ...]]:
+def render_shared(b: Build, layout: SiteLayout, ok: Sequence[CaseUnit], site: SiteFiles,
+                  early: tuple[Sequence[str], Pending]) -> tuple[list[CaseView],
+                                                                tuple[MeetingView, ...]]:
     """Species pages and meeting packets (one phase of units); returns the cases'
-    light views and the meetings, for the register."""
-    sp_calls, sp_cached = plan_species(b, layout, [u.assessed.case for u in ok])
+    light views and the meetings, for the register.  ``early``: the species units
+    handed to the workers with the cases (their unit keys, pending); those the
+    published cases link to are used, the others made now."""
+    made_early = dict(zip(early[0], b.runner.collect(early[1])))
+    sp_planned, sp_cached, sp_early = plan_species(b, layout, [u.assessed.case for u in ok],
+                                                   made_early)
+    sp_calls = list(sp_planned.values())
     views = [light_view(u.assessed.case, u.slug, u.species_slugs) for u in ok]
     meetings, meeting_problems = meeting_views(views, b.meeting)
     site.problems.extend(meeting_problems)
@@ -386,12 +401,15 @@ def render_shared(b: Build, layout: SiteLayout, ok: Sequence[CaseUnit], site: Si
         site.packets.extend(f"packets/{v.slug}.pdf" for v in views)
         site.packets.extend(f"packets/{m.slug}.pdf" for m in meetings)
         mt_calls, mt_cached = plan_meetings(b, meetings, ok)
-    fresh = b.runner.run("pages", sp_calls + mt_calls)
-    b.count("species", made=len(sp_calls), taken=len(sp_cached))
+    # meeting packets first: each puts many case packets together, the longest units of
+    # the phase, and species pages then fill the other workers instead of waiting on one
+    fresh = b.runner.run("pages", mt_calls + sp_calls)
+    b.count("species", made=len(sp_calls) + len(sp_early), taken=len(sp_cached))
     b.count("meeting", made=len(mt_calls), taken=len(mt_cached))
-    b.count("view", made=sum(u.views_made for u in fresh),
-            taken=sum(u.views_reused for u in fresh))
-    for u in [*sp_cached, *mt_cached, *fresh]:
+    made_meetings, made_species = fresh[:len(mt_calls)], [*sp_early, *fresh[len(mt_calls):]]
+    b.count("view", made=sum(u.views_made for u in [*made_meetings, *made_species]),
+            taken=sum(u.views_reused for u in [*made_meetings, *made_species]))
+    for u in [*sp_cached, *mt_cached, *made_species, *made_meetings]:
         site.add(u)
     return views, meetings
 
@@ -487,7 +505,10 @@ def locked_build(b: Build, lock: SiteLock) -> BuildReport:
         if strict and failures:
             return b.refuse([e.case.case.id for e in assessed], failures)
         layout = site_layout([e.case for e in assessed])
-        ok, render_failed = render_cases(b, plan_case_units(b, layout, assessed))
+        # the species pages of every assessed case go to the workers behind the cases
+        sp_ahead, _cached, _none = plan_species(b, layout, [e.case for e in assessed])
+        ok, render_failed, sp_pending = render_cases(b, plan_case_units(b, layout, assessed),
+                                                     list(sp_ahead.values()))
         built = [u.assessed.case.case.id for u, _r in ok]
         failed = [*failures, *render_failed]
         if strict and render_failed:
@@ -495,7 +516,8 @@ def locked_build(b: Build, lock: SiteLock) -> BuildReport:
         site = SiteFiles()
         for _u, r in ok:
             site.add(r)
-        views, meetings = render_shared(b, layout, [u for u, _r in ok], site)
+        views, meetings = render_shared(b, layout, [u for u, _r in ok], site,
+                                        (list(sp_ahead), sp_pending))
         rows = keep_failed(b.target, b.packets, layout, failed, meetings, site)
         keep_packets(b.target, b.packets, site)
         site.add(render_register(b, views, meetings, [u for u, _r in ok], rows))

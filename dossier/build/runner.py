@@ -22,8 +22,8 @@ import os
 import select
 import signal
 import threading
-from concurrent.futures import ProcessPoolExecutor, as_completed
-from typing import Callable
+from concurrent.futures import Future, ProcessPoolExecutor, as_completed
+from typing import Callable, NamedTuple
 
 Progress = Callable[[str, int, int], None]  # (phase, done, total)
 Call = tuple[Callable, tuple]  # a unit function and its arguments
@@ -110,6 +110,14 @@ def run_unit(fn: Callable, *args):
         gc.collect(0)
 
 
+class Pending(NamedTuple):
+    """Calls handed to :meth:`Runner.submit`: their futures (None: run at collect)."""
+
+    phase: str
+    calls: list[Call]
+    futures: dict[Future, int] | None
+
+
 class Runner:
     """Runs unit functions in order of submission; results come back in that order."""
 
@@ -139,18 +147,32 @@ class Runner:
             self.progress(phase, done, total)
 
     def run(self, phase: str, calls: list[Call]) -> list:
+        """Run ``calls`` and wait for them; one job, or one call, runs here in order."""
+        return self.collect(self.submit(phase, calls, ahead=False))
+
+    def submit(self, phase: str, calls: list[Call], ahead: bool = True) -> Pending:
+        """Hand ``calls`` to the workers now, to be waited for by :meth:`collect`.
+
+        With ``ahead`` (the default) they queue behind what was submitted before and
+        fill the workers that finish it early (a phase's last units otherwise leave
+        workers idle); with one job they run at :meth:`collect`, in order."""
+        if self.jobs == 1 or not calls or (len(calls) == 1 and not ahead):
+            return Pending(phase, calls, None)
+        pool = self.executor()
+        return Pending(phase, calls, {pool.submit(run_unit, fn, *args): i
+                                      for i, (fn, args) in enumerate(calls)})
+
+    def collect(self, pending: Pending) -> list:
+        """The results of submitted calls, in their order, telling the progress."""
+        phase, calls, futures = pending
         total = len(calls)
         self.tell(phase, 0, total)
-        if not calls:
-            return []
         results: list = [None] * total
-        if self.jobs == 1 or total == 1:
+        if futures is None:
             for i, (fn, args) in enumerate(calls):
                 results[i] = run_unit(fn, *args)
                 self.tell(phase, i + 1, total)
             return results
-        pool = self.executor()
-        futures = {pool.submit(run_unit, fn, *args): i for i, (fn, args) in enumerate(calls)}
         try:
             for done, fut in enumerate(as_completed(futures), 1):
                 results[futures[fut]] = fut.result()
@@ -167,5 +189,5 @@ class Runner:
             self.pool = None
 
 
-__all__ = ["Call", "GC_THRESHOLD0", "Progress", "Runner", "WORKER_MODULES", "bind_to_parent",
+__all__ = ["Call", "GC_THRESHOLD0", "Pending", "Progress", "Runner", "WORKER_MODULES", "bind_to_parent",
            "fewer_collections", "process_exists", "run_unit", "watch_build"]
