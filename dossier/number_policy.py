@@ -167,15 +167,23 @@ def half_width(interval: tuple[float | None, float | None] | None) -> float | No
     return (hi - lo) / 2.0
 
 
-def significant(x: float | None, figures: int = DEFAULT_FIGURES) -> str:
-    """``x`` to ``figures`` significant figures: plain digits between 0.001 and a million,
-    "1.23 × 10⁹" outside (never e-notation); "0" for zero."""
+def _special(x: float | None) -> str | None:
+    """The text of a value that has no digits to round: missing, infinite or zero."""
     if missing(x):
         return "–"
     if math.isinf(x):
         return _infinite(x)
     if x == 0:
         return "0"
+    return None
+
+
+def significant(x: float | None, figures: int = DEFAULT_FIGURES) -> str:
+    """``x`` to ``figures`` significant figures: plain digits between 0.001 and a million,
+    "1.23 × 10⁹" outside (never e-notation); "0" for zero."""
+    special = _special(x)
+    if special is not None:
+        return special
     decimals = figures_decimals(x, figures)
     r = float(_rounded(x, decimals))
     if PLAIN_FROM <= abs(r) < PLAIN_BELOW:
@@ -331,12 +339,9 @@ def count(n: int | float | None) -> str:
 def plain(x: float | None, figures: int = 6) -> str:
     """A value as given (an input echoed back): the shortest form up to ``figures``
     significant figures, trailing zeros dropped: 1.0 → '1', 1.01325 → '1.01325'."""
-    if missing(x):
-        return "–"
-    if math.isinf(x):
-        return _infinite(x)
-    if x == 0:
-        return "0"
+    special = _special(x)
+    if special is not None:
+        return special
     decimals = max(figures_decimals(x, figures), 0)
     r = float(_rounded(x, decimals))
     if not (PLAIN_FROM <= abs(r) < PLAIN_BELOW):
