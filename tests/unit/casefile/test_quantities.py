@@ -14,15 +14,9 @@ from dossier.errors import UnitError
 from dossier.casefile.units import (DIMENSIONS, MAX_MAGNITUDE, parse_mass_or_amount,
                                 parse_quantity)
 from paths import ROOT
+from unit_messages import message
 
 ROOT = ROOT
-
-
-def message(text, dimension) -> str:
-    with pytest.raises(UnitError) as info:
-        parse_quantity(text, dimension)
-    assert len(info.value.problems) == 1
-    return str(info.value)
 
 
 # --- conversions -------------------------------------------------------------

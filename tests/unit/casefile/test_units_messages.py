@@ -9,13 +9,7 @@ import pytest
 from dossier.casefile.units import parse_mass_or_amount, parse_quantity
 from dossier.errors import UnitError
 from paths import ROOT
-
-
-def message(text, dimension) -> str:
-    with pytest.raises(UnitError) as info:
-        parse_quantity(text, dimension)
-    assert len(info.value.problems) == 1
-    return str(info.value)
+from unit_messages import message
 
 
 @pytest.mark.parametrize("text, dimension, expected", [
