@@ -108,20 +108,22 @@ def read_structure_groups(raw: bytes) -> StructureGroups:
         raise LibraryError(f"structure groups file is damaged: {exc}") from None
 
 
+def _package_file(name: str, what: str) -> bytes:
+    """The bytes of ``dossier/data/<name>``; a LibraryError naming ``what`` when absent."""
+    try:
+        return resources.files("dossier").joinpath(f"data/{name}").read_bytes()
+    except (FileNotFoundError, OSError) as exc:
+        raise LibraryError(f"{what} is missing: {exc}") from None
+
+
 def read_package_groups() -> bytes:
     """The bytes of the structure groups table shipped in the package."""
-    try:
-        return resources.files("dossier").joinpath("data/structure_groups.json").read_bytes()
-    except (FileNotFoundError, OSError) as exc:
-        raise LibraryError(f"structure groups file is missing: {exc}") from None
+    return _package_file("structure_groups.json", "structure groups file")
 
 
 def read_package_data() -> bytes:
     """The bytes of the data file shipped in the package."""
-    try:
-        return resources.files("dossier").joinpath("data/species.json").read_bytes()
-    except (FileNotFoundError, OSError) as exc:
-        raise LibraryError(f"species data file is missing: {exc}") from None
+    return _package_file("species.json", "species data file")
 
 
 def read_species_data(raw: bytes) -> SpeciesData:
