@@ -80,9 +80,7 @@ class Library:
             return entry
         try:
             rec = record_from_row(parse_row(species_id, entry, self.sources), self.sources)
-        except LibraryError:
-            raise
-        except (KeyError, TypeError, ValueError, IndexError) as exc:
+        except (KeyError, TypeError, ValueError, IndexError) as exc:  # parse_row raises its own
             raise LibraryError(f"species data file: record '{species_id}' is damaged: {exc!r}") from None
         self._entries[species_id] = rec
         return rec
@@ -134,16 +132,23 @@ class Library:
         return lib
 
     # -- indexes -----------------------------------------------------------
+    def _labels(self, sid: str) -> tuple[str, Any, str, str, str, str | None]:
+        """What lookups read of an entry: name, aliases, formula as shown, its Hill key,
+        phase and CAS number; from the record, or from the data file's lookup table for
+        a record not yet parsed (that table carries the Hill formula already)."""
+        e = self._entries[sid]
+        if isinstance(e, SpeciesRecord):
+            return (e.name, e.aliases, e.formula, _formula_key(e.composition, e.charge),
+                    e.phase, e.cas)
+        k = self._lookup[sid]
+        return (k[LK_NAME], k[LK_ALIASES], k[LK_FORMULA], k[LK_FORMULA], k[LK_PHASE],
+                k[LK_CAS])
+
     def _index(self) -> None:
         names: dict[str, list[tuple[str, str]]] = {}  # lower case -> (id, text as written)
         formulas: dict[tuple[str, str], list[str]] = {}
-        for sid, e in self._entries.items():
-            if isinstance(e, SpeciesRecord):
-                name, aliases, phase = e.name, e.aliases, e.phase
-                fkey = _formula_key(e.composition, e.charge)
-            else:  # the data file's lookup table carries the Hill formula already
-                k = self._lookup[sid]
-                name, aliases, phase, fkey = k[LK_NAME], k[LK_ALIASES], k[LK_PHASE], k[LK_FORMULA]
+        for sid in self._entries:
+            name, aliases, _shown, fkey, phase, _cas = self._labels(sid)
             for text in dict.fromkeys((name, *aliases)):
                 names.setdefault(text.lower(), []).append((sid, text))
             formulas.setdefault((fkey, phase), []).append(sid)
@@ -257,8 +262,7 @@ class Library:
         return sid if sid == f"{rec.name}({rec.phase})" else f"{rec.name} [{sid}]"
 
     def _phase_of(self, sid: str) -> str:
-        e = self._entries[sid]
-        return e.phase if isinstance(e, SpeciesRecord) else self._lookup[sid][LK_PHASE]
+        return self._labels(sid)[4]
 
     def _ranked(self, query: str, cutoff: float = SEARCH_CUTOFF) -> list[tuple]:
         """(rank, phase order, name length, id) of every record that answers ``query``,
@@ -272,15 +276,8 @@ class Library:
         except FormulaError:
             fkey = None
         ranked = []
-        for sid, e in self._entries.items():
-            if isinstance(e, SpeciesRecord):
-                name, formula, aliases, cas, phase = e.name, e.formula, e.aliases, e.cas, e.phase
-                ekey = _formula_key(e.composition, e.charge) if fkey is not None else None
-            else:
-                k = self._lookup[sid]
-                name, formula, aliases, cas, phase = (k[LK_NAME], k[LK_FORMULA], k[LK_ALIASES],
-                                                      k[LK_CAS], k[LK_PHASE])
-                ekey = formula
+        for sid in self._entries:
+            name, aliases, formula, ekey, phase, cas = self._labels(sid)
             rank = search_rank(q, fkey == ekey if fkey is not None else False,
                                (sid, name, *aliases), formula, cas, cutoff)
             if rank is not None:
