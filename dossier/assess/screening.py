@@ -76,8 +76,7 @@ def known_groups(rec: SpeciesRecord, smiles: str | None,
     if entry is None or table.patterns != energetics.patterns_key():
         return None
     elements, counts = entry
-    if {k: round(float(v), 6) for k, v in elements.items()} != {
-            k: round(float(v), 6) for k, v in rec.composition.items()}:
+    if not energetics.same_elements(elements, rec.composition):
         return None
     return energetics.groups_from_counts(counts)
 

@@ -267,6 +267,12 @@ def smiles_elements(Chem, mol) -> dict[str, float]:
     return comp
 
 
+def same_elements(a: Mapping[str, float], b: Mapping[str, float]) -> bool:
+    """Whether two element counts agree (to 1e-6 of an atom: formulas carry fractions)."""
+    return ({k: round(float(v), 6) for k, v in a.items()}
+            == {k: round(float(v), 6) for k, v in b.items()})
+
+
 def find_explosophores(smiles: str | None, formula: FormulaLike | None = None) -> GroupCheck:
     """Look for the Table A6.1 groups (and extra alerts) in a SMILES string.
 
@@ -287,7 +293,7 @@ def find_explosophores(smiles: str | None, formula: FormulaLike | None = None) -
     if formula is not None:
         want, _, text = composition_of(formula)
         got = smiles_elements(Chem, mol)
-        if {k: round(v, 6) for k, v in want.items()} != {k: round(v, 6) for k, v in got.items()}:
+        if not same_elements(want, got):
             raise FormulaError(
                 f"SMILES '{smiles}' has elements "
                 f"{', '.join(f'{k}{v:g}' for k, v in sorted(got.items()))} but the formula "
