@@ -342,12 +342,14 @@ def render_cases(b: Build, units: Sequence[CaseUnit], then: Sequence[Call] = ()
 
 
 def plan_species(b: Build, layout: SiteLayout, published: Sequence[AssessedCase],
-                 made: Mapping[str, UnitResult] | None = None
-                 ) -> tuple[dict[str, Call], list[UnitResult], list[UnitResult]]:
-    """The species pages the published cases link to: units to run (by unit key), those
-    cached, and those in ``made`` (made by this build already, by unit key)."""
+                 made: Mapping[str, UnitResult] | None = None,
+                 cached: Mapping[str, UnitResult] | None = None
+                 ) -> tuple[dict[str, Call], dict[str, UnitResult], list[UnitResult]]:
+    """The species pages the published cases link to, by unit key: units to run, those
+    in the cache, and those this build made already (``made``).  ``cached``: cache
+    entries found already (not looked up again)."""
     used_by = layout.used_by(published)
-    calls, cached, done = {}, [], []
+    calls, found, done = {}, {}, []
     for sk, (_text, rec) in layout.species.items():
         if sk not in used_by:
             continue
@@ -356,12 +358,12 @@ def plan_species(b: Build, layout: SiteLayout, published: Sequence[AssessedCase]
         if made and k in made:
             done.append(made[k])
             continue
-        u = cached_unit(b.cache, "species", k)
+        u = cached[k] if cached and k in cached else cached_unit(b.cache, "species", k)
         if u is None:
             calls[k] = (unit_species, (rec, slug, local_to, used_by[sk], k, b.root))
         else:
-            cached.append(u)
-    return calls, cached, done
+            found[k] = u
+    return calls, found, done
 
 
 def plan_meetings(b: Build, meetings: Sequence[MeetingView], ok: Sequence[CaseUnit]
@@ -383,16 +385,18 @@ def plan_meetings(b: Build, meetings: Sequence[MeetingView], ok: Sequence[CaseUn
 
 
 def render_shared(b: Build, layout: SiteLayout, ok: Sequence[CaseUnit], site: SiteFiles,
-                  early: tuple[Sequence[str], Pending]) -> tuple[list[CaseView],
-                                                                tuple[MeetingView, ...]]:
+                  early: tuple[Mapping[str, UnitResult], Sequence[str], Pending]
+                  ) -> tuple[list[CaseView], tuple[MeetingView, ...]]:
     """Species pages and meeting packets (one phase of units); returns the cases'
-    light views and the meetings, for the register.  ``early``: the species units
-    handed to the workers with the cases (their unit keys, pending); those the
-    published cases link to are used, the others made now."""
-    made_early = dict(zip(early[0], b.runner.collect(early[1])))
-    sp_planned, sp_cached, sp_early = plan_species(b, layout, [u.assessed.case for u in ok],
-                                                   made_early)
-    sp_calls = list(sp_planned.values())
+    light views and the meetings, for the register.  ``early``: the species pages
+    planned before the cases rendered (those found in the cache, and the unit keys of
+    those handed to the workers with the cases, pending); those the published cases
+    link to are used, the others made now."""
+    found_early, keys, pending = early
+    made_early = dict(zip(keys, b.runner.collect(pending)))
+    sp_planned, found, sp_early = plan_species(b, layout, [u.assessed.case for u in ok],
+                                               made_early, found_early)
+    sp_calls, sp_cached = list(sp_planned.values()), list(found.values())
     views = [light_view(u.assessed.case, u.slug, u.species_slugs) for u in ok]
     meetings, meeting_problems = meeting_views(views, b.meeting)
     site.problems.extend(meeting_problems)
@@ -506,7 +510,7 @@ def locked_build(b: Build, lock: SiteLock) -> BuildReport:
             return b.refuse([e.case.case.id for e in assessed], failures)
         layout = site_layout([e.case for e in assessed])
         # the species pages of every assessed case go to the workers behind the cases
-        sp_ahead, _cached, _none = plan_species(b, layout, [e.case for e in assessed])
+        sp_ahead, sp_found, _none = plan_species(b, layout, [e.case for e in assessed])
         ok, render_failed, sp_pending = render_cases(b, plan_case_units(b, layout, assessed),
                                                      list(sp_ahead.values()))
         built = [u.assessed.case.case.id for u, _r in ok]
@@ -517,7 +521,7 @@ def locked_build(b: Build, lock: SiteLock) -> BuildReport:
         for _u, r in ok:
             site.add(r)
         views, meetings = render_shared(b, layout, [u for u, _r in ok], site,
-                                        (list(sp_ahead), sp_pending))
+                                        (sp_found, list(sp_ahead), sp_pending))
         rows = keep_failed(b.target, b.packets, layout, failed, meetings, site)
         keep_packets(b.target, b.packets, site)
         site.add(render_register(b, views, meetings, [u for u, _r in ok], rows))
