@@ -49,12 +49,17 @@ _PR_SET_PDEATHSIG = 1  # from <linux/prctl.h>
 GC_THRESHOLD0 = 30_000
 
 
+def _raise_threshold() -> None:
+    first, *older = gc.get_threshold()
+    gc.set_threshold(max(GC_THRESHOLD0, first), *older)
+
+
 @contextlib.contextmanager
 def fewer_collections():
     """Run the block with the collector's first threshold at :data:`GC_THRESHOLD0`
     (restored afterwards, so `dossier serve` between builds is as before)."""
     before = gc.get_threshold()
-    gc.set_threshold(max(GC_THRESHOLD0, before[0]), *before[1:])
+    _raise_threshold()
     try:
         yield
     finally:
@@ -65,7 +70,7 @@ def bind_to_parent(build_pid: int) -> None:
     """Pool initializer: die with the parent; exit now if the build is already gone.
     A worker lives only for the build, so it keeps the build's collector setting
     (:data:`GC_THRESHOLD0`) to the end."""
-    gc.set_threshold(max(GC_THRESHOLD0, gc.get_threshold()[0]), *gc.get_threshold()[1:])
+    _raise_threshold()
     try:
         libc = ctypes.CDLL(ctypes.util.find_library("c") or None, use_errno=True)
         libc.prctl(_PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
